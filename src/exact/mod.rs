@@ -1,0 +1,204 @@
+//! Exact scalars: the `Field` trait and its instances.
+//! Start from [`Field`]; [`Rational`] is the base, [`Radical`] adjoins `i` and square roots of
+//! rationals, [`RatFunc`] is a rational function of the real parameters over [`Radical`].
+//! This module knows nothing of matrices, physics, output formats or floating point.
+#![deny(clippy::float_arithmetic)]
+
+mod poly;
+mod radical;
+mod ratfunc;
+mod rational;
+pub mod univariate;
+
+use std::fmt::Debug;
+use std::ops::{Add, AddAssign, Mul, MulAssign, Neg, Sub, SubAssign};
+
+pub use poly::{Monomial, Poly};
+pub use radical::Radical;
+pub use ratfunc::RatFunc;
+pub use rational::Rational;
+
+/// Index of a real parameter (`param g`) in the model's parameter list.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub struct ParamId(pub u32);
+
+/// A commutative field of characteristic zero with exact arithmetic.
+///
+/// # Laws
+/// For all `a`, `b`, `c`: `+` and `*` are associative and commutative, `*` distributes over `+`,
+/// `zero()` and `one()` are the identities, `a + (-a) == zero()`, and `a.inv()` is `Some(b)` with
+/// `a * b == one()` exactly when `!a.is_zero()`. Values are stored in a canonical form, so `==` is
+/// equality of the numbers they denote. `conj` is complex conjugation (`i -> -i`); it fixes every
+/// real parameter and is an automorphism.
+///
+/// `zero` and `one` are functions rather than associated constants because bignum values cannot be
+/// constants.
+pub trait Field:
+    Clone
+    + Eq
+    + Debug
+    + Send
+    + Sync
+    + 'static
+    + Add<Output = Self>
+    + Sub<Output = Self>
+    + Mul<Output = Self>
+    + Neg<Output = Self>
+    + for<'a> Add<&'a Self, Output = Self>
+    + for<'a> Sub<&'a Self, Output = Self>
+    + for<'a> Mul<&'a Self, Output = Self>
+    + for<'a> AddAssign<&'a Self>
+    + for<'a> SubAssign<&'a Self>
+    + for<'a> MulAssign<&'a Self>
+{
+    /// The additive identity.
+    fn zero() -> Self;
+    /// The multiplicative identity.
+    fn one() -> Self;
+    /// Whether this is the additive identity.
+    fn is_zero(&self) -> bool;
+    /// The multiplicative inverse, `None` for zero.
+    fn inv(&self) -> Option<Self>;
+    /// The image of a rational number.
+    fn from_rational(value: &Rational) -> Self;
+    /// Complex conjugate (`i -> -i`); real parameters are fixed.
+    fn conj(&self) -> Self;
+    /// `self * other` without consuming either operand.
+    fn mul_ref(&self, other: &Self) -> Self {
+        self.clone() * other
+    }
+    /// The image of an integer.
+    fn from_i64(value: i64) -> Self {
+        Self::from_rational(&Rational::from_i64(value))
+    }
+    /// Whether this is the multiplicative identity.
+    fn is_one(&self) -> bool {
+        *self == Self::one()
+    }
+    /// `self / other`, `None` when `other` is zero.
+    fn checked_div(&self, other: &Self) -> Option<Self> {
+        other.inv().map(|inv| self.mul_ref(&inv))
+    }
+    /// Embeds the value into the most general scalar type, the one every output reads.
+    fn to_ratfunc(&self) -> RatFunc;
+}
+
+/// A field in which some elements have square roots that stay inside it.
+pub trait SquareRoot: Field {
+    /// A square root inside the field, if there is one (either sign may be returned).
+    fn sqrt(&self) -> Option<Self>;
+}
+
+/// Implements the owned/borrowed pairings of `+ - *` and the assigning forms for a type whose
+/// `add_ref`, `sub_ref`, `mul_ref_impl` and `neg_ref` helpers do the work.
+macro_rules! forward_ops {
+    ($t:ty) => {
+        impl std::ops::Add<&$t> for &$t {
+            type Output = $t;
+            fn add(self, rhs: &$t) -> $t {
+                self.add_ref(rhs)
+            }
+        }
+        impl std::ops::Add<$t> for $t {
+            type Output = $t;
+            fn add(self, rhs: $t) -> $t {
+                self.add_ref(&rhs)
+            }
+        }
+        impl std::ops::Add<&$t> for $t {
+            type Output = $t;
+            fn add(self, rhs: &$t) -> $t {
+                self.add_ref(rhs)
+            }
+        }
+        impl std::ops::Add<$t> for &$t {
+            type Output = $t;
+            fn add(self, rhs: $t) -> $t {
+                self.add_ref(&rhs)
+            }
+        }
+        impl std::ops::Sub<&$t> for &$t {
+            type Output = $t;
+            fn sub(self, rhs: &$t) -> $t {
+                self.sub_ref(rhs)
+            }
+        }
+        impl std::ops::Sub<$t> for $t {
+            type Output = $t;
+            fn sub(self, rhs: $t) -> $t {
+                self.sub_ref(&rhs)
+            }
+        }
+        impl std::ops::Sub<&$t> for $t {
+            type Output = $t;
+            fn sub(self, rhs: &$t) -> $t {
+                self.sub_ref(rhs)
+            }
+        }
+        impl std::ops::Sub<$t> for &$t {
+            type Output = $t;
+            fn sub(self, rhs: $t) -> $t {
+                self.sub_ref(&rhs)
+            }
+        }
+        impl std::ops::Mul<&$t> for &$t {
+            type Output = $t;
+            fn mul(self, rhs: &$t) -> $t {
+                self.mul_ref_impl(rhs)
+            }
+        }
+        impl std::ops::Mul<$t> for $t {
+            type Output = $t;
+            fn mul(self, rhs: $t) -> $t {
+                self.mul_ref_impl(&rhs)
+            }
+        }
+        impl std::ops::Mul<&$t> for $t {
+            type Output = $t;
+            fn mul(self, rhs: &$t) -> $t {
+                self.mul_ref_impl(rhs)
+            }
+        }
+        impl std::ops::Mul<$t> for &$t {
+            type Output = $t;
+            fn mul(self, rhs: $t) -> $t {
+                self.mul_ref_impl(&rhs)
+            }
+        }
+        impl std::ops::Neg for $t {
+            type Output = $t;
+            fn neg(self) -> $t {
+                self.neg_ref()
+            }
+        }
+        impl std::ops::Neg for &$t {
+            type Output = $t;
+            fn neg(self) -> $t {
+                self.neg_ref()
+            }
+        }
+        impl std::ops::AddAssign<&$t> for $t {
+            fn add_assign(&mut self, rhs: &$t) {
+                *self = self.add_ref(rhs);
+            }
+        }
+        impl std::ops::SubAssign<&$t> for $t {
+            fn sub_assign(&mut self, rhs: &$t) {
+                *self = self.sub_ref(rhs);
+            }
+        }
+        impl std::ops::MulAssign<&$t> for $t {
+            fn mul_assign(&mut self, rhs: &$t) {
+                *self = self.mul_ref_impl(rhs);
+            }
+        }
+    };
+}
+pub(crate) use forward_ops;
+
+/// Names used when printing values that mention parameters: `names[p.0]` is the name of `ParamId(p)`.
+#[derive(Clone, Copy, Debug)]
+pub struct Symbols<'a> {
+    /// Parameter names, indexed by `ParamId`.
+    pub names: &'a [String],
+}

@@ -1,0 +1,1 @@
+//! STUB — to be replaced: dense univariate polynomials over any `Field`.

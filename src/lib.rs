@@ -1,0 +1,10 @@
+//! cleave: exact perturbation theory for small model Hamiltonians.
+#![warn(missing_docs)]
+
+pub mod check;
+pub mod emit;
+pub mod engine;
+pub mod exact;
+pub mod linalg;
+pub mod model;
+pub mod spectrum;
