@@ -1,8 +1,36 @@
 //! The expansion engine: effective Hamiltonians, branches and states, order by order.
-//! Start from [`derive`]. Knows no output format.
+//!
+//! Start from [`derive`], which turns a [`Model`] into one [`Derivation`] that every output reads.
+//! The engine knows no output format.
+//!
+//! # How a derivation runs
+//! 1. `spectrum` finds the exact levels of H0; the engine rewrites the problem in a basis of H0
+//!    eigenvectors (orthogonal, not normalized, so no new square roots appear) with a diagonal
+//!    metric (`bloch::Problem`).
+//! 2. For each model space, `bloch::wave_operator` builds Bloch's wave operator, the Bloch
+//!    effective Hamiltonian and the Hermitian (des Cloizeaux) one, order by order.
+//! 3. `split::branches` runs Kato's reduction on the Hermitian effective Hamiltonian: every
+//!    eigenvalue branch with its multiplicity, the order at which it split off, and its state.
+//!
+//! Arithmetic runs in the smallest field that holds the problem: rationals (a one-state model
+//! space whose couplings a diagonal rescaling makes rational), the radical field (numeric models),
+//! or rational functions of the parameters.
 #![deny(clippy::float_arithmetic)]
 
-use crate::model::Model;
+mod bloch;
+mod split;
+
+use std::collections::BTreeSet;
+
+use crate::exact::{Field, Radical, RatFunc, Rational, SquareRoot};
+use crate::linalg::{DenseMatrix, SparseMatrix, SparseVec};
+use crate::model::{Model, SpaceKind};
+use crate::spectrum::{self, Spectrum};
+use bloch::Problem;
+use split::{branches, lift, FieldTooSmall, RawBranch, RawSecular, Stage};
+
+/// The largest order the engine accepts.
+pub const MAX_ORDER: u32 = 1000;
 
 /// Options of one derivation.
 #[derive(Clone, Debug)]
@@ -16,6 +44,104 @@ pub struct DeriveOptions {
 pub struct Derivation {
     /// The order N.
     pub order: u32,
+    /// Parameter names in declaration order (the JSON's `parameters`).
+    pub parameters: Vec<String>,
+    /// The unperturbed spectrum the model spaces were built from.
+    pub spectrum: Spectrum,
+    /// One entry per model space, in `focus` order or in level order.
+    pub model_spaces: Vec<ModelSpace>,
+}
+
+/// The results for one model space.
+#[derive(Clone, Debug)]
+pub struct ModelSpace {
+    /// The H0 energies in this model space.
+    pub unperturbed: Vec<RatFunc>,
+    /// The model-space states in the product basis, normalized where the norm's square root is
+    /// exact (see `normalized`).
+    pub basis: Vec<SparseVec<RatFunc>>,
+    /// Whether `basis` is orthonormal; when false, `effective_hamiltonian` is written in the
+    /// orthogonal but unnormalized basis and `basis_norms` gives the squared norms.
+    pub normalized: bool,
+    /// Squared norms of the unnormalized model-space states.
+    pub basis_norms: Vec<RatFunc>,
+    /// The Hermitian effective Hamiltonian, `effective_hamiltonian[k]` the coefficient of
+    /// `lambda^k`, in the basis `basis`.
+    pub effective_hamiltonian: Vec<DenseMatrix<RatFunc>>,
+    /// Bloch's (non-Hermitian) effective Hamiltonian, same basis and orders.
+    pub bloch_hamiltonian: Vec<DenseMatrix<RatFunc>>,
+    /// The eigenvalue branches.
+    pub branches: Vec<Branch>,
+    /// Secular problems solved on the way, in the order met.
+    pub secular: Vec<SecularEquation>,
+    /// Things the reader must know about these results.
+    pub notes: Vec<Note>,
+}
+
+/// One eigenvalue branch `E(lambda) = sum_k lambda^k energy[k]`.
+#[derive(Clone, Debug)]
+pub struct Branch {
+    /// Coefficients of `lambda^k`, `k = 0..=N`; shorter when the branch could not be split
+    /// exactly at some order (see `not_split`).
+    pub energy: Vec<RatFunc>,
+    /// How many states still share this branch at order N.
+    pub multiplicity: usize,
+    /// Order at which this branch first differs from its siblings.
+    pub split_at: Option<u32>,
+    /// The state, when the branch is a single one.
+    pub state: Option<StateSeries>,
+    /// Set when the secular matrix of this group could not be split exactly.
+    pub not_split: Option<NotSplit>,
+}
+
+/// The eigenvector series of a branch in the product basis, in intermediate normalization:
+/// `<psi0|psi(lambda)> = <psi0|psi0>`, i.e. no correction has a component along `psi0`.
+#[derive(Clone, Debug)]
+pub struct StateSeries {
+    /// `psi^(k)` for `k = 0..=determined_to`, as product-basis vectors; `psi^(0)` is not normalized.
+    pub coefficients: Vec<SparseVec<RatFunc>>,
+    /// The order to which the state is determined by an effective Hamiltonian of order N: `N - s`
+    /// when the branch stood alone from order `s` on (ENGINE.md §5).
+    pub determined_to: u32,
+}
+
+/// A secular equation `det(H_eff^(k) - x) = 0` solved at order `order` of the reduction.
+#[derive(Clone, Debug)]
+pub struct SecularEquation {
+    /// The order whose coefficient matrix was split.
+    pub order: u32,
+    /// `det(x - A)`, coefficients from `x^0` up.
+    pub characteristic: Vec<RatFunc>,
+    /// The distinct roots with their multiplicities.
+    pub roots: Vec<(RatFunc, usize)>,
+}
+
+/// A group whose secular matrix could not be split exactly.
+#[derive(Clone, Debug)]
+pub struct NotSplit {
+    /// The order of the secular matrix.
+    pub order: u32,
+    /// Its characteristic polynomial, coefficients from `x^0` up.
+    pub characteristic: Vec<RatFunc>,
+    /// Why.
+    pub reason: String,
+}
+
+/// Something the reader must know about a model space's results.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Note {
+    /// The wave operator reached the top Fock states of a truncated oscillator, so coefficients
+    /// from order `first_affected` on may differ from those of the untruncated oscillator.
+    Truncation {
+        /// The oscillator's space name.
+        space: String,
+        /// Its number of states.
+        n_states: usize,
+        /// The lowest energy order that the cut can have changed.
+        first_affected: u32,
+        /// A number of states that makes every reported coefficient exact.
+        sufficient: usize,
+    },
 }
 
 /// Why a derivation could not be done.
@@ -35,8 +161,461 @@ impl std::fmt::Display for EngineError {
     }
 }
 
+/// A field the engine can compute in: it can take back exact values found by the eigen-solver.
+pub(crate) trait Scalar: Field {
+    /// The value in this field, if it lies there.
+    fn from_ratfunc(value: &RatFunc) -> Option<Self>;
+}
+
+impl Scalar for Rational {
+    fn from_ratfunc(value: &RatFunc) -> Option<Rational> {
+        value.as_constant()?.as_rational()
+    }
+}
+
+impl Scalar for Radical {
+    fn from_ratfunc(value: &RatFunc) -> Option<Radical> {
+        value.as_constant()
+    }
+}
+
+impl Scalar for RatFunc {
+    fn from_ratfunc(value: &RatFunc) -> Option<RatFunc> {
+        Some(value.clone())
+    }
+}
+
+/// The problem in the working basis (H0 eigenvectors), before a field is chosen.
+struct Working {
+    problem: Problem<RatFunc>,
+    /// Column `i` is working state `i` in the product basis.
+    columns: Vec<SparseVec<RatFunc>>,
+    /// The level of each working state.
+    level_of: Vec<usize>,
+}
+
 /// Derives the perturbation series of `model` to `options.order`.
 pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, EngineError> {
-    let _ = (model, options);
-    unimplemented!()
+    let order = options.order;
+    if order == 0 {
+        return Err(EngineError::BadInput("the order must be at least 1".into()));
+    }
+    if order > MAX_ORDER {
+        return Err(EngineError::BadInput(format!(
+            "order {order} is beyond what cleave computes (at most {MAX_ORDER})"
+        )));
+    }
+    let spectrum = spectrum::unperturbed_levels(model)
+        .map_err(|e| EngineError::Infeasible(e.to_string()))?;
+    let working = working_problem(model, &spectrum);
+    let spaces = model_space_levels(model, &spectrum)?;
+    let n = working.problem.energies.len() as u64;
+    let mut model_spaces = Vec::new();
+    for levels in spaces {
+        let indices: Vec<usize> =
+            (0..working.level_of.len()).filter(|&i| levels.contains(&working.level_of[i])).collect();
+        let cost = n * indices.len() as u64 * u64::from(order);
+        if cost > 400_000_000 {
+            return Err(EngineError::Infeasible(format!(
+                "a model space of {} states in a space of {n} states to order {order} needs more \
+                 memory than cleave allows; lower the order, the oscillator cutoffs, or focus on \
+                 fewer levels",
+                indices.len()
+            )));
+        }
+        model_spaces.push(solve_model_space(model, &spectrum, &working, &levels, &indices, order as usize));
+    }
+    Ok(Derivation { order, parameters: model.param_names(), spectrum, model_spaces })
 }
+
+/// Rewrites H0 + V in the basis of H0 eigenvectors: `A_0` diagonal, metric `g_i = <u_i, u_i>`,
+/// `A_k[i][j] = <u_i, V_k u_j> / g_i`.
+fn working_problem(model: &Model, spectrum: &Spectrum) -> Working {
+    let mut columns = Vec::new();
+    let mut energies = Vec::new();
+    let mut level_of = Vec::new();
+    for (l, level) in spectrum.levels.iter().enumerate() {
+        for v in &level.states {
+            columns.push(v.clone());
+            energies.push(level.energy.clone());
+            level_of.push(l);
+        }
+    }
+    if spectrum.diagonal {
+        // Unit vectors in level order: a permutation of the product basis.
+        let perm: Vec<usize> = columns.iter().map(|c| c.entries()[0].0).collect();
+        let terms = model.perturbations().iter().map(|v| v.submatrix(&perm, &perm)).collect();
+        let metric = vec![RatFunc::one(); perm.len()];
+        return Working { problem: Problem { energies, metric, terms }, columns, level_of };
+    }
+    let metric: Vec<RatFunc> = columns.iter().map(|u| u.conj().dot(u)).collect();
+    let inv_metric: Vec<RatFunc> = metric.iter().map(|g| g.inv().expect("non-zero norm")).collect();
+    let conj_columns: Vec<SparseVec<RatFunc>> = columns.iter().map(SparseVec::conj).collect();
+    let terms = model
+        .perturbations()
+        .iter()
+        .map(|v| {
+            let images: Vec<SparseVec<RatFunc>> = columns.iter().map(|u| v.mul_vec(u)).collect();
+            let mut triplets = Vec::new();
+            for (i, ui) in conj_columns.iter().enumerate() {
+                for (j, vu) in images.iter().enumerate() {
+                    let x = ui.dot(vu);
+                    if !x.is_zero() {
+                        triplets.push((i, j, x * &inv_metric[i]));
+                    }
+                }
+            }
+            SparseMatrix::from_triplets(columns.len(), columns.len(), triplets)
+        })
+        .collect();
+    Working { problem: Problem { energies, metric, terms }, columns, level_of }
+}
+
+/// The level indices of each model space: the `focus` lines, or every level on its own.
+fn model_space_levels(model: &Model, spectrum: &Spectrum) -> Result<Vec<Vec<usize>>, EngineError> {
+    if model.focus().is_empty() {
+        return Ok((0..spectrum.levels.len()).map(|l| vec![l]).collect());
+    }
+    let names = model.param_names();
+    let symbols = crate::exact::Symbols { names: &names };
+    let mut res = Vec::new();
+    for line in model.focus() {
+        let mut levels = Vec::new();
+        for energy in line {
+            match spectrum.levels.iter().position(|l| l.energy == *energy) {
+                Some(l) if !levels.contains(&l) => levels.push(l),
+                Some(_) => {}
+                None => {
+                    let known: Vec<String> = spectrum
+                        .levels
+                        .iter()
+                        .map(|l| l.energy.display(symbols).to_string())
+                        .collect();
+                    return Err(EngineError::BadInput(format!(
+                        "focus energy {} is not an H0 level; the levels are {}",
+                        energy.display(symbols),
+                        known.join(", ")
+                    )));
+                }
+            }
+        }
+        levels.sort_unstable();
+        res.push(levels);
+    }
+    Ok(res)
+}
+
+/// The raw results of one model space in some field.
+struct RawSpace<F> {
+    bloch: bloch::Bloch<F>,
+    branches: Vec<RawBranch<F>>,
+    secular: Vec<RawSecular>,
+    /// Branch vectors in working coordinates.
+    vectors: Vec<Option<Vec<SparseVec<F>>>>,
+}
+
+fn solve_in<F: Scalar>(problem: &Problem<F>, indices: &[usize], order: usize) -> Result<RawSpace<F>, FieldTooSmall> {
+    let bloch = bloch::wave_operator(problem, indices, order);
+    let stage = Stage {
+        series: bloch.hermitian.clone(),
+        metric: indices.iter().map(|&i| problem.metric[i].clone()).collect(),
+    };
+    let mut secular = Vec::new();
+    let raw = branches(stage, 0, &mut secular)?;
+    let vectors = raw.iter().map(|b| b.vector.as_ref().map(|c| lift(&bloch, c))).collect();
+    Ok(RawSpace { bloch, branches: raw, secular, vectors })
+}
+
+fn try_convert<F: Scalar>(problem: &Problem<RatFunc>) -> Option<Problem<F>> {
+    let conv = |v: &RatFunc| F::from_ratfunc(v);
+    Some(Problem {
+        energies: problem.energies.iter().map(conv).collect::<Option<_>>()?,
+        metric: problem.metric.iter().map(conv).collect::<Option<_>>()?,
+        terms: problem.terms.iter().map(|t| t.try_map(conv)).collect::<Option<_>>()?,
+    })
+}
+
+/// Everything of one model space converted to rational functions, plus the per-index scale that
+/// maps the field's coordinates back to working coordinates.
+struct Solved {
+    bloch_h: Vec<DenseMatrix<RatFunc>>,
+    hermitian: Vec<DenseMatrix<RatFunc>>,
+    omega_support: Vec<BTreeSet<usize>>,
+    branches: Vec<RawBranch<RatFunc>>,
+    vectors: Vec<Option<Vec<SparseVec<RatFunc>>>>,
+    secular: Vec<RawSecular>,
+}
+
+fn to_solved<F: Scalar>(raw: RawSpace<F>, scale: Option<&[Radical]>) -> Solved {
+    let conv_vec = |v: &SparseVec<F>| -> SparseVec<RatFunc> {
+        match scale {
+            None => v.map(|_, x| x.to_ratfunc()),
+            Some(s) => v.map(|i, x| x.to_ratfunc() * RatFunc::constant(s[i].clone())),
+        }
+    };
+    let omega_support = raw
+        .bloch
+        .omega
+        .iter()
+        .map(|cols| cols.iter().flat_map(|c| c.entries().iter().map(|(i, _)| *i)).collect())
+        .collect();
+    Solved {
+        bloch_h: raw.bloch.bloch.iter().map(|m| m.map(F::to_ratfunc)).collect(),
+        hermitian: raw.bloch.hermitian.iter().map(|m| m.map(F::to_ratfunc)).collect(),
+        omega_support,
+        branches: raw
+            .branches
+            .iter()
+            .map(|b| RawBranch {
+                energy: b.energy.iter().map(F::to_ratfunc).collect(),
+                multiplicity: b.multiplicity,
+                split_at: b.split_at,
+                vector: None,
+                isolated_at: b.isolated_at,
+                not_split: b.not_split.clone(),
+            })
+            .collect(),
+        vectors: raw.vectors.iter().map(|v| v.as_ref().map(|s| s.iter().map(conv_vec).collect())).collect(),
+        secular: raw.secular,
+    }
+}
+
+/// Solves one model space in the smallest field that works.
+fn solve_fields(working: &Working, indices: &[usize], order: usize) -> Solved {
+    let problem = &working.problem;
+    if let Some(radical) = try_convert::<Radical>(problem) {
+        if indices.len() == 1 {
+            if let Some((rational, scale)) = rationalize(&radical) {
+                if let Ok(raw) = solve_in(&rational, indices, order) {
+                    let anchor = scale[indices[0]].inv().expect("non-zero scale");
+                    let rel: Vec<Radical> = scale.iter().map(|s| s.clone() * &anchor).collect();
+                    return to_solved(raw, Some(&rel));
+                }
+            }
+        }
+        if let Ok(raw) = solve_in(&radical, indices, order) {
+            return to_solved(raw, None);
+        }
+    }
+    let raw = solve_in(problem, indices, order).expect("rational functions hold every value");
+    to_solved(raw, None)
+}
+
+/// A diagonal similarity `A'_k = D^{-1} A_k D` that makes every coupling rational, found by
+/// walking the coupling graph from each component's first state (ENGINE.md §8: it leaves every
+/// branch unchanged). `None` when some coupling is not a single radical or a cycle disagrees.
+fn rationalize(problem: &Problem<Radical>) -> Option<(Problem<Rational>, Vec<Radical>)> {
+    let n = problem.energies.len();
+    let mut scale: Vec<Option<Radical>> = vec![None; n];
+    let mut neighbors: Vec<Vec<(usize, Radical)>> = vec![Vec::new(); n];
+    for term in &problem.terms {
+        for (i, j, v) in term.triplets() {
+            if i != j {
+                neighbors[i].push((j, v.clone()));
+            }
+        }
+    }
+    for root in 0..n {
+        if scale[root].is_some() {
+            continue;
+        }
+        scale[root] = Some(Radical::one());
+        let mut stack = vec![root];
+        while let Some(i) = stack.pop() {
+            let d_i = scale[i].clone().expect("visited");
+            for (j, v) in &neighbors[i] {
+                if scale[*j].is_none() {
+                    // d_j = d_i / v up to a rational, so that v d_j / d_i is rational.
+                    let [(s, _)] = v.terms() else { return None };
+                    let root_s = Radical::sqrt_of(&Rational::from_i64(*s));
+                    scale[*j] = Some(d_i.clone() * root_s.inv()?);
+                    stack.push(*j);
+                }
+            }
+        }
+    }
+    let scale: Vec<Radical> = scale.into_iter().collect::<Option<_>>()?;
+    let inv: Vec<Radical> = scale.iter().map(|s| s.inv()).collect::<Option<_>>()?;
+    let mut terms = Vec::new();
+    for term in &problem.terms {
+        let mut triplets = Vec::new();
+        for (i, j, v) in term.triplets() {
+            let x = (inv[i].clone() * v * &scale[j]).as_rational()?;
+            triplets.push((i, j, x));
+        }
+        terms.push(SparseMatrix::from_triplets(n, n, triplets));
+    }
+    let energies = problem.energies.iter().map(Radical::as_rational).collect::<Option<_>>()?;
+    // The metric only enters the Hermitian form, which one-state model spaces skip.
+    let metric = (0..n).map(|_| Rational::one()).collect();
+    Some((Problem { energies, metric, terms }, scale))
+}
+
+fn solve_model_space(
+    model: &Model,
+    spectrum: &Spectrum,
+    working: &Working,
+    levels: &[usize],
+    indices: &[usize],
+    order: usize,
+) -> ModelSpace {
+    let solved = solve_fields(working, indices, order);
+    let n_basis = indices.len();
+    // Model-space basis in the product basis, normalized where exact.
+    let basis_norms: Vec<RatFunc> = indices.iter().map(|&i| working.problem.metric[i].clone()).collect();
+    let roots: Option<Vec<RatFunc>> = basis_norms.iter().map(SquareRoot::sqrt).collect();
+    let (basis, normalized, effective_hamiltonian, bloch_hamiltonian) = match roots {
+        Some(roots) => {
+            let basis = indices
+                .iter()
+                .zip(&roots)
+                .map(|(&i, r)| working.columns[i].scale(&r.inv().expect("non-zero norm")))
+                .collect();
+            // H_ortho[a][b] = H[a][b] sqrt(g_a) / sqrt(g_b).
+            let rescale = |m: &DenseMatrix<RatFunc>| {
+                let mut res = m.clone();
+                for a in 0..n_basis {
+                    for b in 0..n_basis {
+                        if !m.get(a, b).is_zero() {
+                            let v = m.get(a, b).clone() * &roots[a] * roots[b].inv().expect("non-zero");
+                            res.set(a, b, v);
+                        }
+                    }
+                }
+                res
+            };
+            (
+                basis,
+                true,
+                solved.hermitian.iter().map(rescale).collect(),
+                solved.bloch_h.iter().map(rescale).collect(),
+            )
+        }
+        None => (
+            indices.iter().map(|&i| working.columns[i].clone()).collect(),
+            false,
+            solved.hermitian.clone(),
+            solved.bloch_h.clone(),
+        ),
+    };
+    let to_product = |v: &SparseVec<RatFunc>| -> SparseVec<RatFunc> {
+        let mut pairs = Vec::new();
+        for (i, x) in v.entries() {
+            for (p, y) in working.columns[*i].entries() {
+                pairs.push((*p, x.clone() * y));
+            }
+        }
+        SparseVec::from_pairs(pairs)
+    };
+    let branches = solved
+        .branches
+        .iter()
+        .zip(&solved.vectors)
+        .map(|(b, vec)| {
+            let state = vec.as_ref().map(|series| {
+                let product: Vec<SparseVec<RatFunc>> = series.iter().map(to_product).collect();
+                intermediate_normalization(product, order - b.isolated_at)
+            });
+            Branch {
+                energy: b.energy.clone(),
+                multiplicity: b.multiplicity,
+                split_at: if n_basis == 1 { None } else { b.split_at.map(|s| s as u32) },
+                state,
+                not_split: b.not_split.as_ref().map(|ns| NotSplit {
+                    order: b.energy.len() as u32,
+                    characteristic: ns.characteristic.clone(),
+                    reason: ns.reason.clone(),
+                }),
+            }
+        })
+        .collect();
+    let notes = truncation_notes(model, working, &solved, order);
+    ModelSpace {
+        unperturbed: levels.iter().map(|&l| spectrum.levels[l].energy.clone()).collect(),
+        basis,
+        normalized,
+        basis_norms,
+        effective_hamiltonian,
+        bloch_hamiltonian,
+        branches,
+        secular: solved
+            .secular
+            .iter()
+            .map(|s| SecularEquation {
+                order: s.order as u32,
+                characteristic: s.characteristic.clone(),
+                roots: s.roots.clone(),
+            })
+            .collect(),
+        notes,
+    }
+}
+
+/// Rescales `psi(lambda)` so that `<psi0|psi(lambda)> = <psi0|psi0>` and keeps orders `0..=keep`.
+fn intermediate_normalization(series: Vec<SparseVec<RatFunc>>, keep: usize) -> StateSeries {
+    let keep = keep.min(series.len().saturating_sub(1));
+    let psi0 = series[0].clone();
+    let norm = psi0.conj().dot(&psi0);
+    let inv_norm = norm.inv().expect("non-zero vector");
+    // c(lambda) = <psi0|psi(lambda)>/<psi0|psi0>, c_0 = 1; psi / c order by order.
+    let c: Vec<RatFunc> = series.iter().map(|v| psi0.conj().dot(v) * &inv_norm).collect();
+    let mut res: Vec<SparseVec<RatFunc>> = Vec::with_capacity(keep + 1);
+    for m in 0..=keep {
+        // res_m = series_m - sum_{k=1..m} c_k res_{m-k}.
+        let mut acc = series[m].clone();
+        for k in 1..=m {
+            if !c[k].is_zero() {
+                acc = acc.add_scaled(&-c[k].clone(), &res[m - k]);
+            }
+        }
+        res.push(acc);
+    }
+    StateSeries { coefficients: res, determined_to: keep as u32 }
+}
+
+/// Warns when the wave operator came close enough to the top of a truncated oscillator that the
+/// cut can have changed a coefficient (ENGINE.md §8; the states within the coupling range of the
+/// top lack the couplings of the untruncated operator).
+fn truncation_notes(model: &Model, working: &Working, solved: &Solved, order: usize) -> Vec<Note> {
+    let basis = model.basis();
+    let mut notes = Vec::new();
+    for (space_idx, space) in basis.spaces().iter().enumerate() {
+        let SpaceKind::Oscillator { n_states } = space.kind else { continue };
+        // Coupling range of the perturbation in this factor.
+        let mut range = 0usize;
+        for v in model.perturbations() {
+            for (r, c, _) in v.triplets() {
+                let (a, b) = (basis.factors(r)[space_idx], basis.factors(c)[space_idx]);
+                range = range.max(a.abs_diff(b));
+            }
+        }
+        if range == 0 {
+            continue;
+        }
+        let reach_of = |working_idx: &usize| -> usize {
+            working.columns[*working_idx]
+                .entries()
+                .iter()
+                .map(|(p, _)| basis.factors(*p)[space_idx])
+                .max()
+                .unwrap_or(0)
+        };
+        let reach: Vec<usize> =
+            solved.omega_support.iter().map(|s| s.iter().map(reach_of).max().unwrap_or(0)).collect();
+        let top = n_states - 1;
+        // Energy order m uses Omega_0 .. Omega_{m-1}; it is safe while they stay `range` below top.
+        let first_bad = (0..order).find(|&m| reach[m] + range > top);
+        if let Some(m) = first_bad {
+            notes.push(Note::Truncation {
+                space: space.name.clone(),
+                n_states,
+                first_affected: (m + 1) as u32,
+                sufficient: reach[0] + range * (order + 1) + 1,
+            });
+        }
+    }
+    notes
+}
+
+#[cfg(test)]
+mod tests;

@@ -2,6 +2,10 @@
 //! Start from [`SparseMatrix`]. Knows no physics and no source spans.
 #![deny(clippy::float_arithmetic)]
 
+mod dense;
+
+pub use dense::DenseMatrix;
+
 use crate::exact::Field;
 
 /// A sparse vector: `(index, value)` pairs sorted by index, no stored zeros.

@@ -2,9 +2,11 @@
 //! Start from [`unperturbed_levels`]. Knows nothing of perturbation orders.
 #![deny(clippy::float_arithmetic)]
 
-use crate::exact::RatFunc;
-use crate::linalg::SparseVec;
-use crate::model::Model;
+pub mod eigen;
+
+use crate::exact::{Field, RatFunc};
+use crate::linalg::{DenseMatrix, SparseVec};
+use crate::model::{Model, Operator};
 
 /// One exact eigenvalue of H0 with its eigenspace.
 #[derive(Clone, Debug)]
@@ -47,7 +49,101 @@ impl std::fmt::Display for SpectrumError {
 }
 
 /// Every exact eigenvalue of H0 with its eigenspace.
+///
+/// A diagonal H0 is read off directly. Otherwise H0 is cut into the blocks that its off-diagonal
+/// entries connect, each block is split by [`eigen::eigenspaces`], and equal eigenvalues of
+/// different blocks are merged into one level.
 pub fn unperturbed_levels(model: &Model) -> Result<Spectrum, SpectrumError> {
-    let _ = model;
-    unimplemented!()
+    spectrum_of(model.h0())
+}
+
+/// The spectrum of any Hermitian operator on the product space (see [`unperturbed_levels`]).
+pub fn spectrum_of(h0: &Operator) -> Result<Spectrum, SpectrumError> {
+    let n = h0.n_rows();
+    let diagonal = h0.is_diagonal();
+    let mut levels: Vec<(RatFunc, Vec<SparseVec<RatFunc>>)> = Vec::new();
+    let mut push = |value: RatFunc, vector: SparseVec<RatFunc>| match levels
+        .iter_mut()
+        .find(|(v, _)| *v == value)
+    {
+        Some((_, vs)) => vs.push(vector),
+        None => levels.push((value, vec![vector])),
+    };
+    if diagonal {
+        for (i, e) in h0.diagonal_entries().into_iter().enumerate() {
+            push(e, SparseVec::from_pairs(vec![(i, RatFunc::one())]));
+        }
+    } else {
+        let unit_metric = |k: usize| vec![RatFunc::one(); k];
+        for block in connected_blocks(h0) {
+            let dense = DenseMatrix::from_rows(h0.submatrix(&block, &block).to_dense());
+            let spaces = eigen::eigenspaces(&dense, &unit_metric(block.len())).map_err(|e| {
+                SpectrumError::Unsupported(format!(
+                    "cannot find the exact spectrum of H0: a block of {} states has the \
+                     characteristic polynomial {} and {}; cleave splits H0 when it is diagonal, \
+                     numeric with eigenvalues in Q(i, sqrt 2, sqrt 3, ...), or a sum of commuting \
+                     (symbol x numeric operator) terms",
+                    block.len(),
+                    characteristic_text(&e.characteristic),
+                    e.reason
+                ))
+            })?;
+            for space in spaces {
+                for v in space.vectors {
+                    let pairs =
+                        v.into_iter().enumerate().map(|(k, x)| (block[k], x)).collect::<Vec<_>>();
+                    push(space.value.clone(), SparseVec::from_pairs(pairs));
+                }
+            }
+        }
+    }
+    // Ascending energies when they are real numbers; otherwise first appearance in the basis.
+    let all_real = levels.iter().all(|(v, _)| v.as_constant().is_some_and(|c| c.is_real()));
+    if all_real {
+        levels.sort_by(|(a, _), (b, _)| {
+            eigen::real_sign(&(a.clone() - b).as_constant().expect("constant")).cmp(&0)
+        });
+    }
+    let _ = n;
+    Ok(Spectrum {
+        levels: levels.into_iter().map(|(energy, states)| Level { energy, states }).collect(),
+        diagonal,
+    })
+}
+
+/// Index sets of the blocks of a square matrix (connected components of its non-zero pattern),
+/// each sorted, in order of their smallest index.
+fn connected_blocks(matrix: &Operator) -> Vec<Vec<usize>> {
+    let n = matrix.n_rows();
+    let mut parent: Vec<usize> = (0..n).collect();
+    fn find(parent: &mut [usize], mut i: usize) -> usize {
+        while parent[i] != i {
+            parent[i] = parent[parent[i]];
+            i = parent[i];
+        }
+        i
+    }
+    for (r, c, _) in matrix.triplets() {
+        let (a, b) = (find(&mut parent, r), find(&mut parent, c));
+        if a != b {
+            parent[a.max(b)] = a.min(b);
+        }
+    }
+    let mut blocks: Vec<Vec<usize>> = Vec::new();
+    let mut root_block = vec![usize::MAX; n];
+    for i in 0..n {
+        let root = find(&mut parent, i);
+        if root_block[root] == usize::MAX {
+            root_block[root] = blocks.len();
+            blocks.push(Vec::new());
+        }
+        blocks[root_block[root]].push(i);
+    }
+    blocks
+}
+
+fn characteristic_text(coeffs: &[RatFunc]) -> String {
+    let names: Vec<String> = Vec::new();
+    let _ = names;
+    format!("of degree {}", coeffs.len().saturating_sub(1))
 }

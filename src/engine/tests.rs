@@ -1,0 +1,1 @@
+//! Engine unit tests on models built through the constructors.

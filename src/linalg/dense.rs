@@ -1,0 +1,291 @@
+//! Small dense matrices for the model-space algebra (effective Hamiltonians, secular problems).
+
+use crate::exact::Field;
+
+/// A dense matrix stored row-major.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct DenseMatrix<F> {
+    n_rows: usize,
+    n_cols: usize,
+    data: Vec<F>,
+}
+
+impl<F: Field> DenseMatrix<F> {
+    /// The zero matrix.
+    pub fn zeros(n_rows: usize, n_cols: usize) -> Self {
+        DenseMatrix { n_rows, n_cols, data: vec![F::zero(); n_rows * n_cols] }
+    }
+    /// The identity.
+    pub fn identity(n: usize) -> Self {
+        let mut res = Self::zeros(n, n);
+        for i in 0..n {
+            res.data[i * n + i] = F::one();
+        }
+        res
+    }
+    /// A diagonal matrix.
+    pub fn diagonal(values: &[F]) -> Self {
+        let n = values.len();
+        let mut res = Self::zeros(n, n);
+        for (i, v) in values.iter().enumerate() {
+            res.data[i * n + i] = v.clone();
+        }
+        res
+    }
+    /// Builds from rows of equal length.
+    pub fn from_rows(rows: Vec<Vec<F>>) -> Self {
+        let n_rows = rows.len();
+        let n_cols = rows.first().map_or(0, Vec::len);
+        debug_assert!(rows.iter().all(|r| r.len() == n_cols));
+        DenseMatrix { n_rows, n_cols, data: rows.into_iter().flatten().collect() }
+    }
+    /// Builds from columns of equal length.
+    pub fn from_columns(columns: &[Vec<F>], n_rows: usize) -> Self {
+        let n_cols = columns.len();
+        let mut res = Self::zeros(n_rows, n_cols);
+        for (j, col) in columns.iter().enumerate() {
+            for (i, v) in col.iter().enumerate() {
+                res.data[i * n_cols + j] = v.clone();
+            }
+        }
+        res
+    }
+    /// Number of rows.
+    pub fn n_rows(&self) -> usize {
+        self.n_rows
+    }
+    /// Number of columns.
+    pub fn n_cols(&self) -> usize {
+        self.n_cols
+    }
+    /// The entry at `(i, j)`.
+    pub fn get(&self, i: usize, j: usize) -> &F {
+        &self.data[i * self.n_cols + j]
+    }
+    /// Sets the entry at `(i, j)`.
+    pub fn set(&mut self, i: usize, j: usize, value: F) {
+        self.data[i * self.n_cols + j] = value;
+    }
+    /// Mutable access to the entry at `(i, j)`.
+    pub fn get_mut(&mut self, i: usize, j: usize) -> &mut F {
+        &mut self.data[i * self.n_cols + j]
+    }
+    /// Column `j` as a vector.
+    pub fn column(&self, j: usize) -> Vec<F> {
+        (0..self.n_rows).map(|i| self.get(i, j).clone()).collect()
+    }
+    /// Row `i` as a slice.
+    pub fn row(&self, i: usize) -> &[F] {
+        &self.data[i * self.n_cols..(i + 1) * self.n_cols]
+    }
+    /// Whether every entry is zero.
+    pub fn is_zero(&self) -> bool {
+        self.data.iter().all(F::is_zero)
+    }
+    /// Whether every off-diagonal entry is zero.
+    pub fn is_diagonal(&self) -> bool {
+        (0..self.n_rows).all(|i| (0..self.n_cols).all(|j| i == j || self.get(i, j).is_zero()))
+    }
+    /// `self + other`.
+    pub fn add(&self, other: &Self) -> Self {
+        debug_assert_eq!((self.n_rows, self.n_cols), (other.n_rows, other.n_cols));
+        DenseMatrix {
+            n_rows: self.n_rows,
+            n_cols: self.n_cols,
+            data: self.data.iter().zip(&other.data).map(|(a, b)| a.clone() + b).collect(),
+        }
+    }
+    /// `self - other`.
+    pub fn sub(&self, other: &Self) -> Self {
+        DenseMatrix {
+            n_rows: self.n_rows,
+            n_cols: self.n_cols,
+            data: self.data.iter().zip(&other.data).map(|(a, b)| a.clone() - b).collect(),
+        }
+    }
+    /// `self += factor * other`.
+    pub fn add_scaled_assign(&mut self, factor: &F, other: &Self) {
+        if factor.is_zero() {
+            return;
+        }
+        for (a, b) in self.data.iter_mut().zip(&other.data) {
+            if !b.is_zero() {
+                *a += &factor.mul_ref(b);
+            }
+        }
+    }
+    /// `factor * self`.
+    pub fn scale(&self, factor: &F) -> Self {
+        DenseMatrix {
+            n_rows: self.n_rows,
+            n_cols: self.n_cols,
+            data: self.data.iter().map(|a| factor.mul_ref(a)).collect(),
+        }
+    }
+    /// The matrix product.
+    pub fn mul(&self, other: &Self) -> Self {
+        debug_assert_eq!(self.n_cols, other.n_rows);
+        let mut res = Self::zeros(self.n_rows, other.n_cols);
+        for i in 0..self.n_rows {
+            for k in 0..self.n_cols {
+                let a = self.get(i, k);
+                if a.is_zero() {
+                    continue;
+                }
+                for j in 0..other.n_cols {
+                    let b = other.get(k, j);
+                    if !b.is_zero() {
+                        *res.get_mut(i, j) += &a.mul_ref(b);
+                    }
+                }
+            }
+        }
+        res
+    }
+    /// `self * vector`.
+    pub fn mul_vec(&self, vector: &[F]) -> Vec<F> {
+        (0..self.n_rows)
+            .map(|i| {
+                let mut acc = F::zero();
+                for (a, b) in self.row(i).iter().zip(vector) {
+                    if !a.is_zero() && !b.is_zero() {
+                        acc += &a.mul_ref(b);
+                    }
+                }
+                acc
+            })
+            .collect()
+    }
+    /// The conjugate transpose.
+    pub fn adjoint(&self) -> Self {
+        let mut res = Self::zeros(self.n_cols, self.n_rows);
+        for i in 0..self.n_rows {
+            for j in 0..self.n_cols {
+                res.set(j, i, self.get(i, j).conj());
+            }
+        }
+        res
+    }
+    /// The trace.
+    pub fn trace(&self) -> F {
+        let mut acc = F::zero();
+        for i in 0..self.n_rows.min(self.n_cols) {
+            acc += self.get(i, i);
+        }
+        acc
+    }
+    /// Applies `f` to every entry.
+    pub fn map<G: Field>(&self, f: impl FnMut(&F) -> G) -> DenseMatrix<G> {
+        DenseMatrix { n_rows: self.n_rows, n_cols: self.n_cols, data: self.data.iter().map(f).collect() }
+    }
+    /// Like [`DenseMatrix::map`] with a fallible conversion.
+    pub fn try_map<G: Field>(&self, f: impl FnMut(&F) -> Option<G>) -> Option<DenseMatrix<G>> {
+        Some(DenseMatrix {
+            n_rows: self.n_rows,
+            n_cols: self.n_cols,
+            data: self.data.iter().map(f).collect::<Option<Vec<G>>>()?,
+        })
+    }
+    /// The entries, row-major.
+    pub fn entries(&self) -> &[F] {
+        &self.data
+    }
+    /// Rows as vectors.
+    pub fn to_rows(&self) -> Vec<Vec<F>> {
+        (0..self.n_rows).map(|i| self.row(i).to_vec()).collect()
+    }
+
+    /// A basis of the null space `{x : self x = 0}` by Gauss–Jordan elimination; each basis vector
+    /// has a 1 at its free column.
+    pub fn null_space(&self) -> Vec<Vec<F>> {
+        let (n_rows, n_cols) = (self.n_rows, self.n_cols);
+        let mut m = self.clone();
+        let mut pivot_cols = Vec::new();
+        let mut row = 0;
+        for col in 0..n_cols {
+            if row == n_rows {
+                break;
+            }
+            let Some(pivot) = (row..n_rows).find(|&r| !m.get(r, col).is_zero()) else {
+                continue;
+            };
+            if pivot != row {
+                for j in 0..n_cols {
+                    m.data.swap(pivot * n_cols + j, row * n_cols + j);
+                }
+            }
+            let inv = m.get(row, col).inv().expect("pivot is non-zero");
+            for j in 0..n_cols {
+                let v = m.get(row, j).mul_ref(&inv);
+                m.set(row, j, v);
+            }
+            for r in 0..n_rows {
+                if r == row || m.get(r, col).is_zero() {
+                    continue;
+                }
+                let factor = m.get(r, col).clone();
+                for j in 0..n_cols {
+                    if !m.get(row, j).is_zero() {
+                        let v = m.get(r, j).clone() - factor.mul_ref(m.get(row, j));
+                        m.set(r, j, v);
+                    }
+                }
+            }
+            pivot_cols.push(col);
+            row += 1;
+        }
+        let mut res = Vec::new();
+        for free in (0..n_cols).filter(|c| !pivot_cols.contains(c)) {
+            let mut v = vec![F::zero(); n_cols];
+            v[free] = F::one();
+            for (r, &pc) in pivot_cols.iter().enumerate() {
+                v[pc] = -m.get(r, free).clone();
+            }
+            res.push(v);
+        }
+        res
+    }
+
+    /// The characteristic polynomial `det(x - self)`, coefficients from `x^0` up, by the
+    /// Faddeev–LeVerrier recursion (Gantmacher, The Theory of Matrices, 1959, ch. IV §4):
+    /// `M_k = A M_{k-1} + c_{n-k+1} I`, `c_{n-k} = -tr(A M_k)/k`.
+    pub fn characteristic_polynomial(&self) -> Vec<F> {
+        let n = self.n_rows;
+        let mut coeffs = vec![F::zero(); n + 1];
+        coeffs[n] = F::one();
+        let mut m = Self::zeros(n, n);
+        for k in 1..=n {
+            let mut next = self.mul(&m);
+            for i in 0..n {
+                *next.get_mut(i, i) += &coeffs[n - k + 1];
+            }
+            let t = self.mul(&next).trace();
+            coeffs[n - k] = -(t * F::from_i64(k as i64).inv().expect("k > 0"));
+            m = next;
+        }
+        coeffs
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::exact::Rational;
+
+    fn r(n: i64) -> Rational {
+        Rational::from_i64(n)
+    }
+
+    #[test]
+    fn characteristic_polynomial_of_2x2() {
+        // [[1, 2], [3, 4]]: x^2 - 5x - 2 (trace 5, determinant -2).
+        let a = DenseMatrix::from_rows(vec![vec![r(1), r(2)], vec![r(3), r(4)]]);
+        assert_eq!(a.characteristic_polynomial(), vec![r(-2), r(-5), r(1)]);
+    }
+
+    #[test]
+    fn null_space_of_rank_one() {
+        let a = DenseMatrix::from_rows(vec![vec![r(1), r(-1)], vec![r(-1), r(1)]]);
+        assert_eq!(a.null_space(), vec![vec![r(1), r(1)]]);
+    }
+}
