@@ -1,10 +1,17 @@
 //! Output formats, each a pure function of a computed result: report, JSON, LaTeX, Rust.
-//! Knows nothing of parsing, files or engine internals.
+//! Start from [`report`] and [`json`]. Emitters never recompute anything; they know nothing of
+//! parsing, files or engine internals.
+
+mod json;
+mod report;
+mod text;
+
+pub use json::{json, levels_json};
+pub use report::{levels_report, report};
 
 use crate::engine::Derivation;
 use crate::exact::Rational;
 use crate::model::Model;
-use crate::spectrum::Spectrum;
 
 /// Numeric values of parameters for printing numbers beside exact coefficients (`--at`).
 pub type ParamValues = Vec<(String, Rational)>;
@@ -16,30 +23,6 @@ pub struct LatexOptions {
     pub standalone: bool,
     /// Parameter values for numeric columns.
     pub at: ParamValues,
-}
-
-/// The readable text of `cleave levels`.
-pub fn levels_report(model: &Model, spectrum: &Spectrum, name: &str) -> String {
-    let _ = (model, spectrum, name);
-    unimplemented!()
-}
-
-/// The JSON of `cleave levels --json`.
-pub fn levels_json(model: &Model, spectrum: &Spectrum) -> String {
-    let _ = (model, spectrum);
-    unimplemented!()
-}
-
-/// The readable report of `cleave derive`.
-pub fn report(model: &Model, derivation: &Derivation, name: &str, at: &ParamValues) -> String {
-    let _ = (model, derivation, name, at);
-    unimplemented!()
-}
-
-/// The JSON of `cleave derive --json`.
-pub fn json(model: &Model, derivation: &Derivation) -> String {
-    let _ = (model, derivation);
-    unimplemented!()
 }
 
 /// The LaTeX of `cleave derive --latex`.

@@ -43,7 +43,11 @@ pub(crate) struct Bloch<F> {
 /// `W_m = sum_{k=1..m} P A_k Omega_{m-k}`,
 /// `RHS_m = sum_{k=1..m} Q A_k Omega_{m-k} - sum_{j=1..m-1} Omega_j W_{m-j}`,
 /// `Omega_m[i][a] = RHS_m[i][a] / (E_a - E_i)` for `i` outside the model space.
-pub(crate) fn wave_operator<F: Field>(problem: &Problem<F>, model: &[usize], order: usize) -> Bloch<F> {
+pub(crate) fn wave_operator<F: Field>(
+    problem: &Problem<F>,
+    model: &[usize],
+    order: usize,
+) -> Bloch<F> {
     let n = problem.energies.len();
     let d = model.len();
     let mut position = vec![usize::MAX; n];
@@ -135,7 +139,13 @@ pub(crate) fn wave_operator<F: Field>(problem: &Problem<F>, model: &[usize], ord
     let (hermitian, s_inv_half) = if d == 1 {
         // One state: H_eff = H_B = E(lambda); S^(-1/2) is a scalar series that intermediate
         // normalization removes again, so it is not computed (ENGINE.md §8).
-        let ones = (0..=order).map(|m| if m == 0 { DenseMatrix::identity(1) } else { DenseMatrix::zeros(1, 1) });
+        let ones = (0..=order).map(|m| {
+            if m == 0 {
+                DenseMatrix::identity(1)
+            } else {
+                DenseMatrix::zeros(1, 1)
+            }
+        });
         (bloch.clone(), ones.collect())
     } else {
         hermitian_form(&omega, &bloch, &problem.metric, &model_metric, order)
@@ -196,7 +206,9 @@ fn binomial_series<F: Field>(t: &[DenseMatrix<F>], sign: i64, order: usize) -> V
     for j in 1..=order / 2 {
         power = series_mul(&power, t, order);
         // binom(p, j) = binom(p, j-1) (p - j + 1) / j.
-        coeff = coeff * (half.clone() - F::from_i64(j as i64 - 1)) * F::from_i64(j as i64).inv().expect("j > 0");
+        coeff = coeff
+            * (half.clone() - F::from_i64(j as i64 - 1))
+            * F::from_i64(j as i64).inv().expect("j > 0");
         for (r, p) in res.iter_mut().zip(&power) {
             r.add_scaled_assign(&coeff, p);
         }
@@ -205,7 +217,11 @@ fn binomial_series<F: Field>(t: &[DenseMatrix<F>], sign: i64, order: usize) -> V
 }
 
 /// The product of two matrix series, truncated at `order`.
-pub(crate) fn series_mul<F: Field>(a: &[DenseMatrix<F>], b: &[DenseMatrix<F>], order: usize) -> Vec<DenseMatrix<F>> {
+pub(crate) fn series_mul<F: Field>(
+    a: &[DenseMatrix<F>],
+    b: &[DenseMatrix<F>],
+    order: usize,
+) -> Vec<DenseMatrix<F>> {
     let (n, m) = (a[0].n_rows(), b[0].n_cols());
     (0..=order)
         .map(|k| {

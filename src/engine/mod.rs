@@ -205,15 +205,16 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
             "order {order} is beyond what cleave computes (at most {MAX_ORDER})"
         )));
     }
-    let spectrum = spectrum::unperturbed_levels(model)
-        .map_err(|e| EngineError::Infeasible(e.to_string()))?;
+    let spectrum =
+        spectrum::unperturbed_levels(model).map_err(|e| EngineError::Infeasible(e.to_string()))?;
     let working = working_problem(model, &spectrum);
     let spaces = model_space_levels(model, &spectrum)?;
     let n = working.problem.energies.len() as u64;
     let mut model_spaces = Vec::new();
     for levels in spaces {
-        let indices: Vec<usize> =
-            (0..working.level_of.len()).filter(|&i| levels.contains(&working.level_of[i])).collect();
+        let indices: Vec<usize> = (0..working.level_of.len())
+            .filter(|&i| levels.contains(&working.level_of[i]))
+            .collect();
         let cost = n * indices.len() as u64 * u64::from(order);
         if cost > 400_000_000 {
             return Err(EngineError::Infeasible(format!(
@@ -223,7 +224,14 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
                 indices.len()
             )));
         }
-        model_spaces.push(solve_model_space(model, &spectrum, &working, &levels, &indices, order as usize));
+        model_spaces.push(solve_model_space(
+            model,
+            &spectrum,
+            &working,
+            &levels,
+            &indices,
+            order as usize,
+        ));
     }
     Ok(Derivation { order, parameters: model.param_names(), spectrum, model_spaces })
 }
@@ -314,7 +322,11 @@ struct RawSpace<F> {
     vectors: Vec<Option<Vec<SparseVec<F>>>>,
 }
 
-fn solve_in<F: Scalar>(problem: &Problem<F>, indices: &[usize], order: usize) -> Result<RawSpace<F>, FieldTooSmall> {
+fn solve_in<F: Scalar>(
+    problem: &Problem<F>,
+    indices: &[usize],
+    order: usize,
+) -> Result<RawSpace<F>, FieldTooSmall> {
     let bloch = bloch::wave_operator(problem, indices, order);
     let stage = Stage {
         series: bloch.hermitian.clone(),
@@ -375,7 +387,11 @@ fn to_solved<F: Scalar>(raw: RawSpace<F>, scale: Option<&[Radical]>) -> Solved {
                 not_split: b.not_split.clone(),
             })
             .collect(),
-        vectors: raw.vectors.iter().map(|v| v.as_ref().map(|s| s.iter().map(conv_vec).collect())).collect(),
+        vectors: raw
+            .vectors
+            .iter()
+            .map(|v| v.as_ref().map(|s| s.iter().map(conv_vec).collect()))
+            .collect(),
         secular: raw.secular,
     }
 }
@@ -462,7 +478,8 @@ fn solve_model_space(
     let solved = solve_fields(working, indices, order);
     let n_basis = indices.len();
     // Model-space basis in the product basis, normalized where exact.
-    let basis_norms: Vec<RatFunc> = indices.iter().map(|&i| working.problem.metric[i].clone()).collect();
+    let basis_norms: Vec<RatFunc> =
+        indices.iter().map(|&i| working.problem.metric[i].clone()).collect();
     let roots: Option<Vec<RatFunc>> = basis_norms.iter().map(SquareRoot::sqrt).collect();
     let (basis, normalized, effective_hamiltonian, bloch_hamiltonian) = match roots {
         Some(roots) => {
@@ -477,7 +494,8 @@ fn solve_model_space(
                 for a in 0..n_basis {
                     for b in 0..n_basis {
                         if !m.get(a, b).is_zero() {
-                            let v = m.get(a, b).clone() * &roots[a] * roots[b].inv().expect("non-zero");
+                            let v =
+                                m.get(a, b).clone() * &roots[a] * roots[b].inv().expect("non-zero");
                             res.set(a, b, v);
                         }
                     }
@@ -600,8 +618,11 @@ fn truncation_notes(model: &Model, working: &Working, solved: &Solved, order: us
                 .max()
                 .unwrap_or(0)
         };
-        let reach: Vec<usize> =
-            solved.omega_support.iter().map(|s| s.iter().map(reach_of).max().unwrap_or(0)).collect();
+        let reach: Vec<usize> = solved
+            .omega_support
+            .iter()
+            .map(|s| s.iter().map(reach_of).max().unwrap_or(0))
+            .collect();
         let top = n_states - 1;
         // Energy order m uses Omega_0 .. Omega_{m-1}; it is safe while they stay `range` below top.
         let first_bad = (0..order).find(|&m| reach[m] + range > top);

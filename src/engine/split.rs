@@ -114,7 +114,11 @@ pub(crate) fn branches<F: Scalar>(
         let mut group = Vec::new();
         for v in &space.vectors {
             group.push(columns.len());
-            columns.push(v.iter().map(|x| F::from_ratfunc(x).ok_or(FieldTooSmall)).collect::<Result<_, _>>()?);
+            columns.push(
+                v.iter()
+                    .map(|x| F::from_ratfunc(x).ok_or(FieldTooSmall))
+                    .collect::<Result<_, _>>()?,
+            );
             energies.push(value.clone());
         }
         groups.push(group);
@@ -125,7 +129,10 @@ pub(crate) fn branches<F: Scalar>(
     let u_dag_g = u.adjoint().mul(&g);
     let new_metric: Vec<F> = (0..d).map(|k| u_dag_g.mul(&u).get(k, k).clone()).collect();
     let g_inv = DenseMatrix::diagonal(
-        &new_metric.iter().map(|x| x.inv().expect("eigenvectors have non-zero norm")).collect::<Vec<_>>(),
+        &new_metric
+            .iter()
+            .map(|x| x.inv().expect("eigenvectors have non-zero norm"))
+            .collect::<Vec<_>>(),
     );
     let left = g_inv.mul(&u_dag_g);
     let terms: Vec<SparseMatrix<F>> = stage.series[1..]
@@ -147,7 +154,10 @@ pub(crate) fn branches<F: Scalar>(
         for mut b in branches(child, offset, secular)? {
             b.split_at = b.split_at.or(Some(offset));
             b.vector = b.vector.map(|c| {
-                lift(&bloch, &c).into_iter().map(|v| dense_to_sparse(u.mul_vec(&sparse_to_dense(&v, d)))).collect()
+                lift(&bloch, &c)
+                    .into_iter()
+                    .map(|v| dense_to_sparse(u.mul_vec(&sparse_to_dense(&v, d))))
+                    .collect()
             });
             res.push(b);
         }

@@ -176,7 +176,11 @@ impl<F: Field> DenseMatrix<F> {
     }
     /// Applies `f` to every entry.
     pub fn map<G: Field>(&self, f: impl FnMut(&F) -> G) -> DenseMatrix<G> {
-        DenseMatrix { n_rows: self.n_rows, n_cols: self.n_cols, data: self.data.iter().map(f).collect() }
+        DenseMatrix {
+            n_rows: self.n_rows,
+            n_cols: self.n_cols,
+            data: self.data.iter().map(f).collect(),
+        }
     }
     /// Like [`DenseMatrix::map`] with a fallible conversion.
     pub fn try_map<G: Field>(&self, f: impl FnMut(&F) -> Option<G>) -> Option<DenseMatrix<G>> {

@@ -36,15 +36,19 @@ pub struct NotSplit {
 
 /// The eigenspaces of `a`, which must be diagonalizable (self-adjoint for `metric`), with
 /// eigenvectors orthogonalized for `<x, y> = sum_i conj(x_i) metric_i y_i`.
-pub fn eigenspaces(a: &DenseMatrix<RatFunc>, metric: &[RatFunc]) -> Result<Vec<Eigenspace>, NotSplit> {
+pub fn eigenspaces(
+    a: &DenseMatrix<RatFunc>,
+    metric: &[RatFunc],
+) -> Result<Vec<Eigenspace>, NotSplit> {
     let n = a.n_rows();
     let mut spaces: Vec<(RatFunc, Vec<Vec<RatFunc>>)> = if a.is_diagonal() {
         (0..n).map(|i| (a.get(i, i).clone(), vec![unit(n, i)])).collect()
     } else {
         let parts = constant_parts(a);
-        let commuting = parts.iter().enumerate().all(|(k, (_, mk))| {
-            parts[k + 1..].iter().all(|(_, ml)| mk.mul(ml) == ml.mul(mk))
-        });
+        let commuting = parts
+            .iter()
+            .enumerate()
+            .all(|(k, (_, mk))| parts[k + 1..].iter().all(|(_, ml)| mk.mul(ml) == ml.mul(mk)));
         if commuting {
             joint_eigenspaces(n, &parts).ok_or_else(|| not_split(a, "its numeric parts have eigenvalues that square roots of rationals cannot write"))?
         } else {
@@ -80,7 +84,8 @@ fn not_split(a: &DenseMatrix<RatFunc>, reason: &str) -> NotSplit {
 
 /// Ascending when every value is a real constant; otherwise the order of first appearance.
 fn sort_by_value<T>(spaces: &mut [(RatFunc, T)]) {
-    let keys: Option<Vec<Radical>> = spaces.iter().map(|(v, _)| v.as_constant().filter(Radical::is_real)).collect();
+    let keys: Option<Vec<Radical>> =
+        spaces.iter().map(|(v, _)| v.as_constant().filter(Radical::is_real)).collect();
     if keys.is_some() {
         spaces.sort_by(|(a, _), (b, _)| {
             let diff = (a.clone() - b).as_constant().expect("constants");
@@ -170,11 +175,8 @@ fn constant_parts(a: &DenseMatrix<RatFunc>) -> Vec<(RatFunc, DenseMatrix<Radical
         }
     }
     let common = denominators.iter().fold(RatFunc::one(), |acc, d| acc * poly_to_ratfunc(d));
-    let polys: Vec<Vec<(Monomial, Radical)>> = a
-        .entries()
-        .iter()
-        .map(|e| (e.clone() * &common).numer().terms().to_vec())
-        .collect();
+    let polys: Vec<Vec<(Monomial, Radical)>> =
+        a.entries().iter().map(|e| (e.clone() * &common).numer().terms().to_vec()).collect();
     let mut monomials: BTreeMap<Monomial, usize> = BTreeMap::new();
     for p in &polys {
         for (m, _) in p {
@@ -312,7 +314,13 @@ fn joint_eigenspaces(
         spaces
             .into_iter()
             .map(|(v, basis)| {
-                (v, basis.into_iter().map(|b| b.into_iter().map(RatFunc::constant).collect()).collect())
+                (
+                    v,
+                    basis
+                        .into_iter()
+                        .map(|b| b.into_iter().map(RatFunc::constant).collect())
+                        .collect(),
+                )
             })
             .collect(),
     )
@@ -494,8 +502,12 @@ fn divisors(n: &BigInt) -> Option<Vec<BigInt>> {
 
 /// `p / gcd(p, p')`, monic.
 fn square_free(p: &[Rational]) -> Vec<Rational> {
-    let deriv: Vec<Rational> =
-        p.iter().enumerate().skip(1).map(|(k, c)| c.clone() * Rational::from_i64(k as i64)).collect();
+    let deriv: Vec<Rational> = p
+        .iter()
+        .enumerate()
+        .skip(1)
+        .map(|(k, c)| c.clone() * Rational::from_i64(k as i64))
+        .collect();
     let g = poly_gcd(p.to_vec(), deriv);
     let (q, _) = poly_divrem(p, &g);
     let lead = q.last().cloned().unwrap_or_else(Rational::one);

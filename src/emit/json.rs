@@ -1,0 +1,161 @@
+//! The JSON of `cleave levels --json` and `cleave derive --json`, as CONTRACT.md fixes it.
+//! Mirror structs spell out the schema; core types never derive `Serialize`.
+
+use serde::Serialize;
+
+use super::text;
+use crate::engine::Derivation;
+use crate::model::Model;
+use crate::spectrum::Spectrum;
+
+#[derive(Serialize)]
+struct LevelsJson {
+    parameters: Vec<String>,
+    dimension: usize,
+    levels: Vec<LevelJson>,
+}
+
+#[derive(Serialize)]
+struct LevelJson {
+    energy: String,
+    degeneracy: usize,
+    states: Vec<String>,
+}
+
+/// The JSON of `cleave levels --json`.
+pub fn levels_json(model: &Model, spectrum: &Spectrum) -> String {
+    let names = model.param_names();
+    let basis = model.basis();
+    let doc = LevelsJson {
+        parameters: names.clone(),
+        dimension: basis.dimension(),
+        levels: spectrum
+            .levels
+            .iter()
+            .map(|l| LevelJson {
+                energy: text::scalar(&l.energy, &names),
+                degeneracy: l.degeneracy(),
+                states: l
+                    .states
+                    .iter()
+                    .map(|v| text::state(&super::report::normalized(v), basis, &names))
+                    .collect(),
+            })
+            .collect(),
+    };
+    serde_json::to_string_pretty(&doc).expect("plain data serializes") + "\n"
+}
+
+#[derive(Serialize)]
+struct DeriveJson {
+    order: u32,
+    parameters: Vec<String>,
+    model_spaces: Vec<ModelSpaceJson>,
+}
+
+#[derive(Serialize)]
+struct ModelSpaceJson {
+    unperturbed: Vec<String>,
+    basis: Vec<String>,
+    effective_hamiltonian: Vec<Vec<Vec<String>>>,
+    branches: Vec<BranchJson>,
+    secular_equations: Vec<SecularJson>,
+    notes: Vec<String>,
+}
+
+#[derive(Serialize)]
+struct BranchJson {
+    energy: Vec<String>,
+    multiplicity: usize,
+    split_at: Option<u32>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    not_split: Option<NotSplitJson>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    state: Option<StateJson>,
+}
+
+#[derive(Serialize)]
+struct NotSplitJson {
+    order: u32,
+    characteristic_polynomial: String,
+    reason: String,
+}
+
+#[derive(Serialize)]
+struct StateJson {
+    normalization: &'static str,
+    determined_to: u32,
+    coefficients: Vec<String>,
+}
+
+#[derive(Serialize)]
+struct SecularJson {
+    order: u32,
+    characteristic_polynomial: String,
+    roots: Vec<String>,
+    multiplicities: Vec<usize>,
+}
+
+/// The JSON of `cleave derive --json`: the contract's fields, plus `secular_equations`, `notes`,
+/// and per branch its `state` and, where the reduction stopped, `not_split`.
+pub fn json(model: &Model, derivation: &Derivation) -> String {
+    let names = derivation.parameters.clone();
+    let basis = model.basis();
+    let doc = DeriveJson {
+        order: derivation.order,
+        parameters: names.clone(),
+        model_spaces: derivation
+            .model_spaces
+            .iter()
+            .map(|space| ModelSpaceJson {
+                unperturbed: space.unperturbed.iter().map(|e| text::scalar(e, &names)).collect(),
+                basis: space.basis.iter().map(|v| text::state(v, basis, &names)).collect(),
+                effective_hamiltonian: space
+                    .effective_hamiltonian
+                    .iter()
+                    .map(|m| {
+                        m.to_rows()
+                            .iter()
+                            .map(|row| row.iter().map(|x| text::scalar(x, &names)).collect())
+                            .collect()
+                    })
+                    .collect(),
+                branches: space
+                    .branches
+                    .iter()
+                    .map(|b| BranchJson {
+                        energy: b.energy.iter().map(|e| text::scalar(e, &names)).collect(),
+                        multiplicity: b.multiplicity,
+                        split_at: b.split_at,
+                        not_split: b.not_split.as_ref().map(|ns| NotSplitJson {
+                            order: ns.order,
+                            characteristic_polynomial: text::polynomial(&ns.characteristic, &names),
+                            reason: ns.reason.clone(),
+                        }),
+                        state: b.state.as_ref().map(|s| StateJson {
+                            normalization: "intermediate",
+                            determined_to: s.determined_to,
+                            coefficients: s
+                                .coefficients
+                                .iter()
+                                .map(|v| text::ket_sum(v, basis, &names))
+                                .collect(),
+                        }),
+                    })
+                    .collect(),
+                secular_equations: space
+                    .secular
+                    .iter()
+                    .map(|s| SecularJson {
+                        order: s.order,
+                        characteristic_polynomial: text::polynomial(&s.characteristic, &names),
+                        roots: s.roots.iter().map(|(r, _)| text::scalar(r, &names)).collect(),
+                        multiplicities: s.roots.iter().map(|(_, m)| *m).collect(),
+                    })
+                    .collect(),
+                notes: space.notes.iter().map(super::report::note_text).collect(),
+            })
+            .collect(),
+    };
+    serde_json::to_string_pretty(&doc).expect("plain data serializes") + "\n"
+}

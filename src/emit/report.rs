@@ -1,0 +1,236 @@
+//! The readable reports of `cleave levels` and `cleave derive`.
+
+use std::fmt::Write;
+
+use super::{text, ParamValues};
+use crate::check;
+use crate::engine::{Derivation, ModelSpace, Note};
+use crate::exact::{Field, RatFunc, SquareRoot};
+use crate::linalg::{DenseMatrix, SparseVec};
+use crate::model::Model;
+use crate::spectrum::Spectrum;
+
+/// A vector scaled to unit norm when the square root of its norm is exact.
+pub(crate) fn normalized(v: &SparseVec<RatFunc>) -> SparseVec<RatFunc> {
+    let norm = v.conj().dot(v);
+    match norm.sqrt().and_then(|r| r.inv()) {
+        Some(inv) => v.scale(&inv),
+        None => v.clone(),
+    }
+}
+
+/// The readable text of `cleave levels`.
+pub fn levels_report(model: &Model, spectrum: &Spectrum, name: &str) -> String {
+    let names = model.param_names();
+    let basis = model.basis();
+    let mut out = String::new();
+    let _ = writeln!(out, "Unperturbed spectrum of {name}");
+    let _ = writeln!(
+        out,
+        "{} states, {} levels{}",
+        basis.dimension(),
+        spectrum.levels.len(),
+        params_suffix(&names)
+    );
+    if !spectrum.diagonal {
+        let _ = writeln!(
+            out,
+            "H0 is not diagonal in the product basis; states are exact eigenvectors."
+        );
+    }
+    let _ = writeln!(out);
+    for (k, level) in spectrum.levels.iter().enumerate() {
+        let _ = writeln!(
+            out,
+            "level {}: E0 = {}   degeneracy {}",
+            k + 1,
+            text::scalar(&level.energy, &names),
+            level.degeneracy()
+        );
+        for v in &level.states {
+            let _ = writeln!(out, "    {}", text::state(&normalized(v), basis, &names));
+        }
+    }
+    out
+}
+
+fn params_suffix(names: &[String]) -> String {
+    if names.is_empty() {
+        String::new()
+    } else {
+        format!(", parameters {}", names.join(", "))
+    }
+}
+
+/// The readable report of `cleave derive`.
+pub fn report(model: &Model, derivation: &Derivation, name: &str, at: &ParamValues) -> String {
+    let names = derivation.parameters.clone();
+    let mut out = String::new();
+    let _ = writeln!(out, "Perturbation series of {name} to order {}", derivation.order);
+    let _ = writeln!(
+        out,
+        "H(lambda) = H0 + lambda V{}{}; coefficients of lambda^k, exact.",
+        if model.perturbations().len() > 1 { " + lambda^2 V2 + ..." } else { "" },
+        params_suffix(&names)
+    );
+    if !at.is_empty() {
+        let values: Vec<String> = at.iter().map(|(n, v)| format!("{n} = {v}")).collect();
+        let _ = writeln!(out, "Numeric values in [brackets] at {}.", values.join(", "));
+    }
+    for (k, space) in derivation.model_spaces.iter().enumerate() {
+        let _ = writeln!(out);
+        model_space_report(&mut out, model, space, k + 1, &names, at, derivation.order);
+    }
+    out
+}
+
+fn model_space_report(
+    out: &mut String,
+    model: &Model,
+    space: &ModelSpace,
+    number: usize,
+    names: &[String],
+    at: &ParamValues,
+    order: u32,
+) {
+    let basis = model.basis();
+    let energies: Vec<String> = space.unperturbed.iter().map(|e| text::scalar(e, names)).collect();
+    let d = space.basis.len();
+    let _ = writeln!(
+        out,
+        "== Model space {number}: E0 = {} ({d} state{}{})",
+        energies.join(", "),
+        if d == 1 { "" } else { "s" },
+        if space.unperturbed.len() > 1 { ", quasi-degenerate" } else { "" }
+    );
+    let _ = writeln!(out, "basis:");
+    for (a, v) in space.basis.iter().enumerate() {
+        let _ = writeln!(out, "  [{}] {}", a + 1, text::state(v, basis, names));
+    }
+    if !space.normalized {
+        let _ = writeln!(
+            out,
+            "  (not normalized: squared norms {}; matrices below are in this basis)",
+            space.basis_norms.iter().map(|g| text::scalar(g, names)).collect::<Vec<_>>().join(", ")
+        );
+    }
+    if d > 1 {
+        let _ = writeln!(out, "effective Hamiltonian (Hermitian form), coefficient of lambda^k:");
+        for (k, m) in space.effective_hamiltonian.iter().enumerate() {
+            matrix(out, k, m, names);
+        }
+    }
+    if !space.secular.is_empty() {
+        let _ = writeln!(out, "secular equations:");
+        for s in &space.secular {
+            let roots: Vec<String> = s
+                .roots
+                .iter()
+                .map(|(r, m)| {
+                    let r = text::scalar(r, names);
+                    if *m > 1 {
+                        format!("{r} (x{m})")
+                    } else {
+                        r
+                    }
+                })
+                .collect();
+            let _ = writeln!(
+                out,
+                "  order {}: {} = 0  ->  x = {}",
+                s.order,
+                text::polynomial(&s.characteristic, names),
+                roots.join(", ")
+            );
+        }
+    }
+    let _ = writeln!(out, "branches:");
+    for (b, branch) in space.branches.iter().enumerate() {
+        let split = match branch.split_at {
+            Some(s) => format!("splits at order {s}"),
+            None if d == 1 => "single state".to_string(),
+            None => "never splits".to_string(),
+        };
+        let _ = writeln!(out, "  ({}) multiplicity {}, {}", b + 1, branch.multiplicity, split);
+        let _ = writeln!(out, "      E = {}", text::series(&branch.energy, names));
+        for (k, c) in branch.energy.iter().enumerate() {
+            let value = numeric_suffix(c, names, at);
+            let _ = writeln!(out, "      E^({k}) = {}{value}", text::scalar(c, names));
+        }
+        if let Some(ns) = &branch.not_split {
+            let _ = writeln!(
+                out,
+                "      not split at order {}: {}; secular polynomial {} = 0. The effective \
+                 Hamiltonian above still holds; the branches of this group are its eigenvalues.",
+                ns.order,
+                ns.reason,
+                text::polynomial(&ns.characteristic, names)
+            );
+        }
+    }
+    let states: Vec<_> =
+        space.branches.iter().enumerate().filter(|(_, b)| b.state.is_some()).collect();
+    if !states.is_empty() {
+        let _ = writeln!(
+            out,
+            "states (intermediate normalization: corrections are orthogonal to psi^(0)):"
+        );
+        for (b, branch) in states {
+            let s = branch.state.as_ref().expect("filtered");
+            let _ = writeln!(out, "  ({}) determined to order {}", b + 1, s.determined_to);
+            for (k, v) in s.coefficients.iter().enumerate() {
+                let _ = writeln!(out, "      psi^({k}) = {}", text::ket_sum(v, basis, names));
+            }
+        }
+        if space.branches.iter().any(|b| b.state.as_ref().is_some_and(|s| s.determined_to < order))
+        {
+            let _ = writeln!(
+                out,
+                "  A branch that splits at order s has its state determined only to order N - s."
+            );
+        }
+    }
+    for note in &space.notes {
+        let _ = writeln!(out, "note: {}", note_text(note));
+    }
+    if order >= 6 && d == 1 {
+        let _ = writeln!(
+            out,
+            "note: the series is asymptotic for many models (e.g. anharmonic oscillators); \
+             use it only where its terms still decrease."
+        );
+    }
+}
+
+fn matrix(out: &mut String, k: usize, m: &DenseMatrix<RatFunc>, names: &[String]) {
+    let cells: Vec<Vec<String>> =
+        m.to_rows().iter().map(|r| r.iter().map(|x| text::scalar(x, names)).collect()).collect();
+    let width = cells.iter().flatten().map(String::len).max().unwrap_or(1);
+    let _ = writeln!(out, "  k = {k}:");
+    for row in cells {
+        let padded: Vec<String> = row.iter().map(|c| format!("{c:>width$}")).collect();
+        let _ = writeln!(out, "    [ {} ]", padded.join("  "));
+    }
+}
+
+fn numeric_suffix(value: &RatFunc, names: &[String], at: &ParamValues) -> String {
+    if at.is_empty() {
+        return String::new();
+    }
+    match check::evaluate_named(value, names, at) {
+        Some((re, im)) if im.abs() > 0.0 => format!("   [{re:.10e} + {im:.10e} i]"),
+        Some((re, _)) => format!("   [{re:.10e}]"),
+        None => "   [undefined at these values]".to_string(),
+    }
+}
+
+/// A note as one sentence.
+pub(crate) fn note_text(note: &Note) -> String {
+    match note {
+        Note::Truncation { space, n_states, first_affected, sufficient } => format!(
+            "the oscillator {space} is cut at {n_states} states and the wave operator reached its \
+             top states: coefficients from order {first_affected} on may differ from the \
+             untruncated oscillator's; oscillator({sufficient}) makes every reported coefficient exact"
+        ),
+    }
+}
