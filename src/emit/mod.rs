@@ -2,10 +2,12 @@
 //! Start from [`report`] and [`json`]. Emitters never recompute anything; they know nothing of
 //! parsing, files or engine internals.
 
+mod check;
 mod json;
 mod report;
 mod text;
 
+pub use check::{check_plot, check_report};
 pub use json::{json, levels_json};
 pub use report::{levels_report, report};
 
