@@ -18,6 +18,7 @@
 #![deny(clippy::float_arithmetic)]
 
 mod bloch;
+mod fast;
 mod split;
 
 use std::collections::BTreeSet;
@@ -338,6 +339,22 @@ fn solve_in<F: Scalar>(
     Ok(RawSpace { bloch, branches: raw, secular, vectors })
 }
 
+/// A one-state model space over the rationals: the fraction-free recursion of `fast`.
+fn solve_one_state(problem: &Problem<Rational>, p: usize, order: usize) -> Result<RawSpace<Rational>, FieldTooSmall> {
+    let bloch = fast::rayleigh_schrodinger(problem, p, order);
+    let energy = bloch.bloch.iter().map(|m| m.get(0, 0).clone()).collect();
+    let vectors = vec![Some(bloch.omega.iter().map(|cols| cols[0].clone()).collect())];
+    let branch = RawBranch {
+        energy,
+        multiplicity: 1,
+        split_at: None,
+        vector: None,
+        isolated_at: 0,
+        not_split: None,
+    };
+    Ok(RawSpace { bloch, branches: vec![branch], secular: Vec::new(), vectors })
+}
+
 fn try_convert<F: Scalar>(problem: &Problem<RatFunc>) -> Option<Problem<F>> {
     let conv = |v: &RatFunc| F::from_ratfunc(v);
     Some(Problem {
@@ -402,7 +419,7 @@ fn solve_fields(working: &Working, indices: &[usize], order: usize) -> Solved {
     if let Some(radical) = try_convert::<Radical>(problem) {
         if indices.len() == 1 {
             if let Some((rational, scale)) = rationalize(&radical) {
-                if let Ok(raw) = solve_in(&rational, indices, order) {
+                if let Ok(raw) = solve_one_state(&rational, indices[0], order) {
                     let anchor = scale[indices[0]].inv().expect("non-zero scale");
                     let rel: Vec<Radical> = scale.iter().map(|s| s.clone() * &anchor).collect();
                     return to_solved(raw, Some(&rel));
