@@ -45,6 +45,8 @@ pub enum SyntaxError {
     },
     /// Brackets nested deeper than [`MAX_NESTING`].
     NestedTooDeeply,
+    /// A statement with more than [`MAX_OPERATORS`] operator signs.
+    TooManyOperators,
     /// Something else was expected at this point.
     Expected {
         /// What the grammar allows here, in words: "an expression or end of line".
@@ -58,7 +60,11 @@ pub enum SyntaxError {
 
 /// The deepest bracket nesting a model may use; deeper input is surely a mistake, and the limit
 /// keeps every recursive pass over the tree far from the stack's end.
-pub const MAX_NESTING: usize = 64;
+pub const MAX_NESTING: usize = 32;
+
+/// The most operator signs one statement may have. Sums and products become chains in the tree,
+/// so this bounds its depth, and with it every recursive pass and the stack they use.
+pub const MAX_OPERATORS: usize = 256;
 
 impl fmt::Display for SyntaxError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
@@ -73,6 +79,9 @@ impl fmt::Display for SyntaxError {
             }
             SyntaxError::Expected { expected, found } => {
                 write!(f, "expected {expected}, found {found}")
+            }
+            SyntaxError::TooManyOperators => {
+                write!(f, "more than {MAX_OPERATORS} operators in one statement")
             }
             SyntaxError::TooComplex => write!(f, "expression too complex to parse"),
         }

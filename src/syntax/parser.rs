@@ -290,7 +290,7 @@ fn friendly(text: &str, err: pest::error::Error<Rule>) -> Diagnostic {
         }
     };
     let mut expected: Vec<String> = Vec::new();
-    let mut push = |description: String, expected: &mut Vec<String>| {
+    let push = |description: String, expected: &mut Vec<String>| {
         if !expected.contains(&description) {
             expected.push(description);
         }
