@@ -211,7 +211,10 @@ impl<F: Field> SparseMatrix<F> {
     }
     /// Iterates over `(row, col, value)` of the stored entries, row by row.
     pub fn triplets(&self) -> impl Iterator<Item = (usize, usize, &F)> {
-        self.rows.iter().enumerate().flat_map(|(r, row)| row.entries.iter().map(move |(c, v)| (r, *c, v)))
+        self.rows
+            .iter()
+            .enumerate()
+            .flat_map(|(r, row)| row.entries.iter().map(move |(c, v)| (r, *c, v)))
     }
     /// `self + factor * other`.
     pub fn add_scaled(&self, factor: &F, other: &SparseMatrix<F>) -> SparseMatrix<F> {
@@ -338,7 +341,11 @@ impl<F: Field> SparseMatrix<F> {
                 rows.push(SparseVec { entries });
             }
         }
-        SparseMatrix { n_rows: self.n_rows * other.n_rows, n_cols: self.n_cols * other.n_cols, rows }
+        SparseMatrix {
+            n_rows: self.n_rows * other.n_rows,
+            n_cols: self.n_cols * other.n_cols,
+            rows,
+        }
     }
     /// Applies `f` to every stored entry (zeros dropped).
     pub fn map<G: Field>(&self, mut f: impl FnMut(&F) -> G) -> SparseMatrix<G> {

@@ -195,7 +195,8 @@ impl fmt::Display for LowerError {
                 write!(f, "exponent larger than {MAX_EXPONENT}")
             }
             LowerError::RaggedMatrix { row, expected, found } => {
-                write!(f, "matrix row {row} has {found} entries, expected {expected}")
+                let plural = if *found == 1 { "y" } else { "ies" };
+                write!(f, "matrix row {row} has {found} entr{plural}, expected {expected}")
             }
             LowerError::MatrixRows { space, expected, found } => {
                 write!(f, "the matrix has {found} rows, but `{space}` has {expected} states")

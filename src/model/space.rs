@@ -99,7 +99,8 @@ impl Space {
     pub fn spin(twice_j: u32, op: SpinOp) -> Operator {
         let n = twice_j as usize + 1;
         let j = Rational::ratio(twice_j as i64, 2).expect("nonzero denominator");
-        let m_of = |idx: usize| Rational::ratio(twice_j as i64 - 2 * idx as i64, 2).expect("2 != 0");
+        let m_of =
+            |idx: usize| Rational::ratio(twice_j as i64 - 2 * idx as i64, 2).expect("2 != 0");
         // J+ maps index k (m) to index k-1 (m+1).
         let up = || {
             let triplets = (1..n)
@@ -116,7 +117,9 @@ impl Space {
         match op {
             SpinOp::Up => up(),
             SpinOp::Down => up().adjoint(),
-            SpinOp::Z => Operator::diagonal((0..n).map(|k| RatFunc::from_rational(&m_of(k))).collect()),
+            SpinOp::Z => {
+                Operator::diagonal((0..n).map(|k| RatFunc::from_rational(&m_of(k))).collect())
+            }
             SpinOp::X => {
                 let u = up();
                 u.add(&u.adjoint()).scale(&half)

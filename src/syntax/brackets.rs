@@ -29,7 +29,7 @@ pub(super) fn check_brackets(text: &str) -> Result<(), Diagnostic> {
                 }
             }
             '\n' if !open.is_empty() && !open.iter().any(|(b, _)| *b == '[') => {
-                let (bracket, at) = open[0];
+                let (bracket, at) = open[open.len() - 1];
                 return Err(SyntaxError::UnclosedBracket { open: bracket })
                     .at(Span::new(at, at + 1));
             }
@@ -56,7 +56,8 @@ pub(super) fn check_brackets(text: &str) -> Result<(), Diagnostic> {
             _ => {}
         }
     }
-    match open.first() {
+    // The innermost open bracket is the one a closing bracket was most likely meant for.
+    match open.last() {
         Some((bracket, at)) => {
             Err(SyntaxError::UnclosedBracket { open: *bracket }).at(Span::new(*at, at + 1))
         }

@@ -333,6 +333,9 @@ fn friendly(text: &str, err: pest::error::Error<Rule>) -> Diagnostic {
     if expected.len() > 1 {
         expected.retain(|d| d != "`(`" && d != "`[`");
     }
+    if expected.iter().any(|d| d == DESCRIPTIONS[3]) {
+        expected.retain(|d| d != "`>`");
+    }
     if expected.iter().any(|d| d == DESCRIPTIONS[0]) {
         expected.retain(|d| d != DESCRIPTIONS[1]);
     }
