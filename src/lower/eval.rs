@@ -95,10 +95,17 @@ impl Scope {
         match self.names.get(name) {
             Some(Binding::Param(id)) => Ok(Value::Scalar(RatFunc::param(*id))),
             Some(Binding::Value(value)) => Ok(value.clone()),
-            Some(Binding::Space(_)) => {
-                Err(LowerError::SpaceAsValue { name: name.to_string() }).at(span).map_err(|d| {
-                    d.with_hint(format!("use one of its operators, e.g. `{name}.z` or `{name}.n`"))
-                })
+            Some(Binding::Space(idx)) => {
+                let hint = match &self.basis.spaces()[*idx].kind {
+                    SpaceKind::Oscillator { .. } => {
+                        format!("use `{name}.lower`, `{name}.raise` or `{name}.n`")
+                    }
+                    SpaceKind::Spin { .. } => format!("use `{name}.x`, `{name}.y` or `{name}.z`"),
+                    SpaceKind::Levels { .. } => "use ket-bras of its states, like `|A><B|`".into(),
+                };
+                Err(LowerError::SpaceAsValue { name: name.to_string() })
+                    .at(span)
+                    .map_err(|d| d.with_hint(hint))
             }
             None if name == "i" => Ok(Value::Scalar(RatFunc::constant(Radical::i()))),
             None => {

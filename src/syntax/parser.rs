@@ -391,7 +391,9 @@ fn describe(rule: Rule) -> &'static str {
         | Rule::let_decl
         | Rule::focus_decl
         | Rule::order_decl
-        | Rule::term_def => DESCRIPTIONS[0],
+        | Rule::term_def
+        // Pest names the whole file when no statement could start at the beginning.
+        | Rule::file => DESCRIPTIONS[0],
         Rule::ident => DESCRIPTIONS[1],
         Rule::expr
         | Rule::term

@@ -379,3 +379,21 @@ fn parse_rational_reads_decimals() {
     let err = cleave::lower::parse_rational("sqrt(2)").expect_err("not rational");
     assert_eq!(err.message, "expected a rational number");
 }
+
+#[test]
+fn every_example_model_loads() {
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/examples");
+    let mut paths: Vec<_> = std::fs::read_dir(dir)
+        .expect("examples/ exists")
+        .map(|entry| entry.expect("a directory entry").path())
+        .filter(|path| path.extension().is_some_and(|ext| ext == "clv"))
+        .collect();
+    paths.sort();
+    assert!(paths.len() >= 5, "{paths:?}");
+    for path in paths {
+        let text = std::fs::read_to_string(&path).expect("readable");
+        if let Err(d) = cleave::load(&text) {
+            panic!("{}", d.render(&text, &path.display().to_string()));
+        }
+    }
+}
