@@ -38,7 +38,11 @@ fn integer_columns(term: &crate::linalg::SparseMatrix<Rational>) -> IntColumns {
 
 /// The one-state wave operator of `problem` for state `p` to `order`, as `bloch::wave_operator`
 /// would return it.
-pub(crate) fn rayleigh_schrodinger(problem: &Problem<Rational>, p: usize, order: usize) -> Bloch<Rational> {
+pub(crate) fn rayleigh_schrodinger(
+    problem: &Problem<Rational>,
+    p: usize,
+    order: usize,
+) -> Bloch<Rational> {
     let n = problem.energies.len();
     let terms: Vec<IntColumns> = problem.terms.iter().map(integer_columns).collect();
     // Gaps E_p - E_i as reduced fractions a_i / b_i (None inside the level of p).
@@ -51,7 +55,8 @@ pub(crate) fn rayleigh_schrodinger(problem: &Problem<Rational>, p: usize, order:
             (i != p && !g.is_zero()).then(|| (g.numer().clone(), g.denom().clone()))
         })
         .collect();
-    let mut omega: Vec<IntVec> = vec![IntVec { entries: vec![(p, BigInt::one())], den: BigInt::one() }];
+    let mut omega: Vec<IntVec> =
+        vec![IntVec { entries: vec![(p, BigInt::one())], den: BigInt::one() }];
     let mut energies: Vec<Rational> = vec![problem.energies[p].clone()];
     let mut acc: Vec<BigInt> = vec![BigInt::zero(); n];
     let mut touched: Vec<bool> = vec![false; n];
@@ -172,5 +177,4 @@ mod tests {
         assert_eq!(fast.bloch, general.bloch);
         assert_eq!(fast.omega, general.omega);
     }
-
 }

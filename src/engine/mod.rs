@@ -340,7 +340,11 @@ fn solve_in<F: Scalar>(
 }
 
 /// A one-state model space over the rationals: the fraction-free recursion of `fast`.
-fn solve_one_state(problem: &Problem<Rational>, p: usize, order: usize) -> Result<RawSpace<Rational>, FieldTooSmall> {
+fn solve_one_state(
+    problem: &Problem<Rational>,
+    p: usize,
+    order: usize,
+) -> Result<RawSpace<Rational>, FieldTooSmall> {
     let bloch = fast::rayleigh_schrodinger(problem, p, order);
     let energy = bloch.bloch.iter().map(|m| m.get(0, 0).clone()).collect();
     let vectors = vec![Some(bloch.omega.iter().map(|cols| cols[0].clone()).collect())];
