@@ -96,7 +96,8 @@ pub struct Branch {
 }
 
 /// The eigenvector series of a branch in the product basis, in intermediate normalization:
-/// `<psi0|psi(lambda)> = <psi0|psi0>`, i.e. no correction has a component along `psi0`.
+/// `<psi0|psi(lambda)> = <psi0|psi0>`, i.e. no correction has a component along `psi0`;
+/// `psi0` is normalized whenever the square root of its norm is exact.
 #[derive(Clone, Debug)]
 pub struct StateSeries {
     /// `psi^(k)` for `k = 0..=determined_to`, as product-basis vectors; `psi^(0)` is not normalized.
@@ -608,6 +609,10 @@ fn intermediate_normalization(series: Vec<SparseVec<RatFunc>>, keep: usize) -> S
             }
         }
         res.push(acc);
+    }
+    // Unit <psi0|psi0> where its square root is exact, so psi^(0) reads as a normalized state.
+    if let Some(inv_root) = norm.sqrt().and_then(|r| r.inv()) {
+        res = res.iter().map(|v| v.scale(&inv_root)).collect();
     }
     StateSeries { coefficients: res, determined_to: keep as u32 }
 }
