@@ -1,1 +1,8 @@
-fn main() {}
+//! The integration suite, one binary: grammar, lowering, command line and fuzzing.
+
+mod support;
+
+mod cli;
+mod fuzz;
+mod grammar;
+mod lower;

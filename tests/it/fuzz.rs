@@ -1,0 +1,120 @@
+//! No input may panic: random text and random soups of the language's tokens go through
+//! parsing and lowering, and any error must be a located diagnostic that renders.
+
+use proptest::prelude::*;
+
+/// Tokens of the model language, including some that are wrong in most places.
+const TOKENS: &[&str] = &[
+    "param",
+    "space",
+    "let",
+    "focus",
+    "order",
+    "H0",
+    "V",
+    "V2",
+    "V0",
+    "g",
+    "U",
+    "x",
+    "q",
+    "s",
+    "d",
+    "i",
+    "=",
+    ",",
+    "(",
+    ")",
+    "[",
+    "]",
+    "+",
+    "-",
+    "*",
+    "/",
+    "^",
+    ">",
+    "0",
+    "1",
+    "2",
+    "3/2",
+    "0.125",
+    "1e-3",
+    "1e99999",
+    "sqrt",
+    "adj",
+    "comm",
+    "matrix",
+    "oscillator",
+    "spin",
+    "levels",
+    "L",
+    "R",
+    "q.lower",
+    "q.raise",
+    "q.n",
+    "s.x",
+    "s.y",
+    "s.z",
+    "s.up",
+    "s.down",
+    "s.w",
+    "|L><R|",
+    "|0><1|",
+    "|+1/2><-1/2|",
+    "|d.L><d.R|",
+    "|",
+    "<",
+    "\n",
+    "\n",
+    "#",
+    " ",
+    "µ",
+    "\t",
+];
+
+/// Lines that make later soup tokens meaningful, so lowering gets past name resolution.
+const PRELUDE: &str =
+    "param g, U > 0\nspace q = oscillator(3)\nspace s = spin(1/2)\nspace d = levels(L, R)\n";
+
+fn check_no_panic(text: &str) {
+    match cleave::load(text) {
+        Ok(_) => {}
+        Err(diagnostic) => {
+            let rendered = diagnostic.render(text, "fuzz.clv");
+            assert!(rendered.starts_with("fuzz.clv:"), "{rendered}");
+        }
+    }
+    let _ = cleave::lower::eval_scalar(text, &["g".to_string()]);
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
+
+    #[test]
+    fn random_text_never_panics(text in "\\PC{0,60}") {
+        check_no_panic(&text);
+    }
+
+    #[test]
+    fn token_soup_never_panics(tokens in prop::collection::vec(prop::sample::select(TOKENS), 0..30)) {
+        let soup = tokens.join(" ");
+        check_no_panic(&soup);
+        check_no_panic(&format!("{PRELUDE}{soup}"));
+    }
+
+    #[test]
+    fn soup_statements_never_panic(
+        lines in prop::collection::vec(prop::collection::vec(prop::sample::select(TOKENS), 1..8), 1..6),
+    ) {
+        let body: Vec<String> = lines.iter().map(|line| line.join(" ")).collect();
+        check_no_panic(&format!("{PRELUDE}{}\n", body.join("\n")));
+    }
+}
+
+#[test]
+fn deep_but_allowed_nesting_does_not_overflow() {
+    let nested = format!("{}s.z{}", "(".repeat(32), ")".repeat(32));
+    let chain = vec!["s.x"; 250].join("*");
+    check_no_panic(&format!("{PRELUDE}H0 = {nested} ^ 2^2^2^-1\nV = {chain}\n"));
+    check_no_panic(&format!("{PRELUDE}H0 = {}1\nV = 1\n", "-".repeat(250)));
+}
