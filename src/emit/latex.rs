@@ -182,13 +182,13 @@ fn model_space(out: &mut String, ctx: &SpaceContext<'_>) {
     let basis = ctx.model.basis();
     let d = space.basis.len();
     let energies: Vec<String> =
-        space.unperturbed.iter().map(|e| format!("${}$", scalar(e, ctx.names).text)).collect();
+        space.unperturbed.iter().map(|e| scalar(e, ctx.names).text).collect();
     let _ = writeln!(out, "\\paragraph{{Model space {}.}}", ctx.number);
     let _ = write!(
         out,
-        "Unperturbed energ{} $E_0$ = {}; {d} state{}{}. Basis: ",
+        "Unperturbed energ{} $E_0 = {}$; {d} state{}{}. Basis: ",
         if energies.len() > 1 { "ies" } else { "y" },
-        energies.join(", "),
+        energies.join(",\\ "),
         if d == 1 { "" } else { "s" },
         if space.unperturbed.len() > 1 { ", quasi-degenerate" } else { "" }
     );
@@ -478,10 +478,11 @@ fn effective_hamiltonian(out: &mut String, ctx: &SpaceContext<'_>) {
                 let _ = writeln!(out, "\\setcounter{{MaxMatrixCols}}{{{d}}}");
             }
             let _ = writeln!(out, "\\begin{{equation*}}\n{}\\begin{{bmatrix}}", lhs.text);
-            for row in &cells {
-                let texts: Vec<&str> = row.iter().map(|c| c.text.as_str()).collect();
-                let _ = writeln!(out, "{} \\\\", texts.join(" & "));
-            }
+            let rows: Vec<String> = cells
+                .iter()
+                .map(|row| row.iter().map(|c| c.text.as_str()).collect::<Vec<_>>().join(" & "))
+                .collect();
+            let _ = writeln!(out, "{}", rows.join(" \\\\\n"));
             out.push_str("\\end{bmatrix}\n\\end{equation*}\n");
         } else {
             let _ = writeln!(
@@ -540,6 +541,9 @@ fn secular_equation(out: &mut String, secular: &SecularEquation, names: &[String
 fn branch_series(out: &mut String, number: usize, branch: &Branch, ctx: &SpaceContext<'_>) {
     let coeffs: Vec<Fraction> = branch.energy.iter().map(terms::fraction).collect();
     let mut pieces = series_pieces(&coeffs, "\\lambda", false, ctx.names);
+    if pieces.is_empty() {
+        pieces.push(Tex::new("0", 1));
+    }
     let next = branch.energy.len();
     pieces.push(Tex::new(format!(" + O(\\lambda^{{{next}}})"), 8));
     let lhs = Tex::new(format!("E_{{{number}}}(\\lambda) = "), 7);
@@ -682,8 +686,16 @@ fn series_pieces(coeffs: &[Fraction], var: &str, descending: bool, names: &[Stri
     res
 }
 
-/// Pushes `opening a + b - c \bigr)` as pieces, one per atom.
+/// Pushes `opening a + b - c \bigr)`: as one piece when the group is short enough to keep on one
+/// line, else one piece per atom so the line may break inside the parentheses.
 fn grouped(res: &mut Vec<Tex>, opening: Tex, atoms: &[Atom], names: &[String]) {
+    let mut whole = opening.clone();
+    whole.push(&inline_sum(atoms, names));
+    whole.push_str("\\bigr)", 1);
+    if whole.width <= LINE_BUDGET / 2 {
+        res.push(whole);
+        return;
+    }
     let mut pending = Some(opening);
     for (idx, atom) in atoms.iter().enumerate() {
         let mut piece = pending.take().unwrap_or_default();
@@ -869,7 +881,8 @@ fn ket(basis: &Basis, state_idx: usize) -> Tex {
             SpaceKind::Oscillator { .. } => Tex::new(local.to_string(), local.to_string().len()),
             SpaceKind::Spin { .. } => match space.spin_m(local) {
                 Some(m) if m.is_integer() => {
-                    let text = if m.is_zero() { "0".to_string() } else { format!("{m:+}") };
+                    // The contract labels spin states with an explicit sign: `+1`, `0`, `-1`.
+                    let text = if m.is_positive() { format!("+{m}") } else { m.to_string() };
                     let width = text.len();
                     Tex::new(text, width)
                 }
