@@ -92,8 +92,11 @@ pub(crate) fn latex(
     if options.standalone {
         out.push_str("\\documentclass{article}\n\\usepackage{amsmath}\n\\usepackage{booktabs}\n");
         out.push_str("\\begin{document}\n");
-        let _ =
-            writeln!(out, "\\section*{{Perturbation series of \\texttt{{{}}}}}", escape_text(name));
+        let _ = writeln!(
+            out,
+            "\\section*{{Perturbation series of \\texttt{{{}}}}}",
+            file_name(short_name(name))
+        );
     } else {
         let _ = writeln!(
             out,
@@ -133,10 +136,10 @@ fn introduction(
     let mut out = String::new();
     let _ = write!(
         out,
-        "Exact perturbation series of \\texttt{{{}}} to order $N = {}$ for $H(\\lambda) = H_0 + \\lambda V{}$. \
+        "{{\\sloppy Exact perturbation series of \\texttt{{{}}} to order $N = {}$ for $H(\\lambda) = H_0 + \\lambda V{}$. \
          Branch energies are $E(\\lambda) = \\sum_{{k=0}}^{{N}} \\lambda^k E^{{(k)}}$; tables and matrices give \
          the coefficients of $\\lambda^k$.",
-        escape_text(name),
+        file_name(name),
         derivation.order,
         if model.perturbations().len() > 1 { " + \\lambda^2 V_2 + \\dots" } else { "" }
     );
@@ -149,7 +152,7 @@ fn introduction(
     }
     out.push_str(
         " The series are truncated at order $N$; for many models they are asymptotic rather than \
-         convergent, so use them only where their terms still decrease.\n",
+         convergent, so use them only where their terms still decrease.\\par}\n",
     );
     out
 }
@@ -269,17 +272,13 @@ fn cell(value: &RatFunc, ctx: &SpaceContext<'_>, too_long: &mut bool) -> Tex {
 fn numeric(value: &RatFunc, names: &[String], at: &super::ParamValues) -> Tex {
     match check::evaluate_named(value, names, at) {
         Some((re, im)) if im != 0.0 => {
+            let sign = if im < 0.0 { " - " } else { " + " };
             let (re, im) = (float(re), float(im.abs()));
-            let sign = if im_negative(value, names, at) { " - " } else { " + " };
             Tex::new(format!("{}{sign}{}\\,i", re.text, im.text), re.width + im.width + 4)
         }
         Some((re, _)) => float(re),
         None => Tex::new("\\text{undefined}", 9),
     }
-}
-
-fn im_negative(value: &RatFunc, names: &[String], at: &super::ParamValues) -> bool {
-    check::evaluate_named(value, names, at).is_some_and(|(_, im)| im < 0.0)
 }
 
 /// `1.23457`, `-0.0012`, `6.02214 \times 10^{23}`: six significant digits.
@@ -345,7 +344,7 @@ fn branch_table(out: &mut String, ctx: &SpaceContext<'_>) {
          coefficients $E^{{(k)}}$ of $\\lambda^k$, multiplicity at order $N$, and the order at which \
          each branch splits from its siblings.",
         ctx.number,
-        escape_text(ctx.name),
+        file_name(short_name(ctx.name)),
         energies.join(",\\ "),
         ctx.order
     );
@@ -455,8 +454,8 @@ fn branch_table(out: &mut String, ctx: &SpaceContext<'_>) {
 fn effective_hamiltonian(out: &mut String, ctx: &SpaceContext<'_>) {
     let d = ctx.space.basis.len();
     out.push_str(
-        "\nThe effective Hamiltonian (Hermitian form) in the basis $e_1, \\dots$ above, \
-         $H_{\\mathrm{eff}}(\\lambda) = \\sum_k \\lambda^k H^{(k)}_{\\mathrm{eff}}$:\n",
+        "\nThe effective Hamiltonian (Hermitian form) in the basis above, order by order: \
+         $H^{(k)}_{\\mathrm{eff}}$ is the coefficient of $\\lambda^k$.\n",
     );
     for (k, matrix) in ctx.space.effective_hamiltonian.iter().enumerate() {
         let lhs = Tex::new(format!("H^{{({k})}}_{{\\mathrm{{eff}}}} = "), 8);
@@ -913,6 +912,25 @@ fn ket(basis: &Basis, state_idx: usize) -> Tex {
     }
     res.push_str("\\rangle", 1);
     res
+}
+
+/// A model's display name for `\\texttt`, escaped, with break points after `/` and `_` so a
+/// long path wraps instead of running into the margin.
+fn file_name(raw: &str) -> String {
+    let mut res = String::new();
+    for ch in raw.chars() {
+        res.push_str(&escape_text(&ch.to_string()));
+        if matches!(ch, '/' | '_') {
+            res.push_str("\\allowbreak{}");
+        }
+    }
+    res
+}
+
+/// The last component of a path-like display name, short enough for headings and captions (the
+/// introduction gives the name in full).
+fn short_name(name: &str) -> &str {
+    name.rsplit(['/', '\\']).find(|part| !part.is_empty()).unwrap_or(name)
 }
 
 /// Escapes text-mode specials (`\ _ # % & $ { } ^ ~`).
