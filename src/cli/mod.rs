@@ -228,17 +228,11 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
     let derivation =
         engine::derive(&loaded.model, &options).map_err(|err| loaded.engine_failure(err))?;
     let verification = check::verify(&loaded.model, &derivation, &CheckOptions { at });
-    if args.plot.is_some() {
-        // FIXME: `emit` has no check table or plot yet; until it does, say so instead of
-        // drawing one here, which is not this module's job.
-        return Err(Failure::infeasible("--plot is not available yet: emit has no plot output"));
-    }
-    // FIXME: a stopgap table until `emit` has a check report.
-    let mut text = String::from("branch  error slope\n");
-    for (idx, slope) in verification.slopes.iter().enumerate() {
-        text.push_str(&format!("{idx:>6}  {slope:.3}\n"));
-    }
     let mut outputs = Outputs::default();
+    if let Some(path) = &args.plot {
+        outputs.push(path, emit::check_plot(&verification));
+    }
+    let text = emit::check_report(&derivation, &verification, &loaded.name);
     outputs.report_unless_stdout_taken(|| text);
     outputs.write()
 }

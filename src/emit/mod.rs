@@ -3,6 +3,7 @@
 //! to embed. Emitters never recompute anything; they know nothing of
 //! parsing, files or engine internals.
 
+mod check;
 mod json;
 mod latex;
 mod report;
@@ -10,6 +11,7 @@ mod rust;
 mod terms;
 mod text;
 
+pub use check::{check_plot, check_report};
 pub use json::{json, levels_json};
 pub use report::{levels_report, report};
 

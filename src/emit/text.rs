@@ -100,7 +100,38 @@ pub(crate) fn series(coeffs: &[RatFunc], names: &[String]) -> String {
     res
 }
 
-/// A polynomial in `x` from its coefficients (`x^0` first).
+/// A polynomial in `x` from its coefficients (`x^0` first), printed from the highest power down.
 pub(crate) fn polynomial(coeffs: &[RatFunc], names: &[String]) -> String {
-    series(coeffs, names).replace("lambda", "x")
+    let mut res = String::new();
+    for (k, c) in coeffs.iter().enumerate().rev() {
+        if c.is_zero() {
+            continue;
+        }
+        let text = scalar(c, names);
+        let negated = scalar(&-c.clone(), names);
+        let (sign, magnitude) =
+            if text.starts_with('-') && !is_sum(&negated) { ("-", negated) } else { ("+", text) };
+        if res.is_empty() {
+            if sign == "-" {
+                res.push('-');
+            }
+        } else {
+            res.push_str(if sign == "-" { " - " } else { " + " });
+        }
+        let power = match k {
+            0 => String::new(),
+            1 => "x".to_string(),
+            _ => format!("x^{k}"),
+        };
+        res.push_str(&match (power.is_empty(), magnitude.as_str()) {
+            (true, _) => magnitude.clone(),
+            (false, "1") => power,
+            (false, m) if is_sum(m) => format!("({m})*{power}"),
+            (false, m) => format!("{m}*{power}"),
+        });
+    }
+    if res.is_empty() {
+        res.push('0');
+    }
+    res
 }

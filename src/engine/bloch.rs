@@ -237,7 +237,7 @@ pub(crate) fn series_mul<F: Field>(
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
     use crate::exact::Rational;
 
@@ -248,6 +248,10 @@ mod tests {
     /// The quartic anharmonic oscillator `p^2/2 + x^2/2 + lambda x^4`, ground level, in the basis
     /// `|n) = sqrt(n!) |n>` where `x = (a + a^dag)/sqrt(2)` is rational (`a|n) = n|n-1)`,
     /// `a^dag|n) = |n+1)`); a diagonal similarity that leaves the energy series unchanged.
+    pub(crate) fn quartic_pub(n: usize) -> Problem<Rational> {
+        quartic(n)
+    }
+
     fn quartic(n_states: usize) -> Problem<Rational> {
         let mut x = SparseMatrix::zeros(n_states, n_states);
         let mut triplets = Vec::new();

@@ -18,6 +18,7 @@
 #![deny(clippy::float_arithmetic)]
 
 mod bloch;
+mod fast;
 mod split;
 
 use std::collections::BTreeSet;
@@ -95,7 +96,8 @@ pub struct Branch {
 }
 
 /// The eigenvector series of a branch in the product basis, in intermediate normalization:
-/// `<psi0|psi(lambda)> = <psi0|psi0>`, i.e. no correction has a component along `psi0`.
+/// `<psi0|psi(lambda)> = <psi0|psi0>`, i.e. no correction has a component along `psi0`;
+/// `psi0` is normalized whenever the square root of its norm is exact.
 #[derive(Clone, Debug)]
 pub struct StateSeries {
     /// `psi^(k)` for `k = 0..=determined_to`, as product-basis vectors; `psi^(0)` is not normalized.
@@ -338,6 +340,26 @@ fn solve_in<F: Scalar>(
     Ok(RawSpace { bloch, branches: raw, secular, vectors })
 }
 
+/// A one-state model space over the rationals: the fraction-free recursion of `fast`.
+fn solve_one_state(
+    problem: &Problem<Rational>,
+    p: usize,
+    order: usize,
+) -> Result<RawSpace<Rational>, FieldTooSmall> {
+    let bloch = fast::rayleigh_schrodinger(problem, p, order);
+    let energy = bloch.bloch.iter().map(|m| m.get(0, 0).clone()).collect();
+    let vectors = vec![Some(bloch.omega.iter().map(|cols| cols[0].clone()).collect())];
+    let branch = RawBranch {
+        energy,
+        multiplicity: 1,
+        split_at: None,
+        vector: None,
+        isolated_at: 0,
+        not_split: None,
+    };
+    Ok(RawSpace { bloch, branches: vec![branch], secular: Vec::new(), vectors })
+}
+
 fn try_convert<F: Scalar>(problem: &Problem<RatFunc>) -> Option<Problem<F>> {
     let conv = |v: &RatFunc| F::from_ratfunc(v);
     Some(Problem {
@@ -402,7 +424,7 @@ fn solve_fields(working: &Working, indices: &[usize], order: usize) -> Solved {
     if let Some(radical) = try_convert::<Radical>(problem) {
         if indices.len() == 1 {
             if let Some((rational, scale)) = rationalize(&radical) {
-                if let Ok(raw) = solve_in(&rational, indices, order) {
+                if let Ok(raw) = solve_one_state(&rational, indices[0], order) {
                     let anchor = scale[indices[0]].inv().expect("non-zero scale");
                     let rel: Vec<Radical> = scale.iter().map(|s| s.clone() * &anchor).collect();
                     return to_solved(raw, Some(&rel));
@@ -587,6 +609,10 @@ fn intermediate_normalization(series: Vec<SparseVec<RatFunc>>, keep: usize) -> S
             }
         }
         res.push(acc);
+    }
+    // Unit <psi0|psi0> where its square root is exact, so psi^(0) reads as a normalized state.
+    if let Some(inv_root) = norm.sqrt().and_then(|r| r.inv()) {
+        res = res.iter().map(|v| v.scale(&inv_root)).collect();
     }
     StateSeries { coefficients: res, determined_to: keep as u32 }
 }

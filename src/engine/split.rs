@@ -62,7 +62,18 @@ pub(crate) fn branches<F: Scalar>(
             energy: stage.series.iter().map(|m| m.get(0, 0).clone()).collect(),
             multiplicity: 1,
             split_at: None,
-            vector: Some(vec![SparseVec::from_pairs(vec![(0, F::one())])]),
+            // The one state is the eigenvector at every order this stage knows.
+            vector: Some(
+                (0..stage.series.len())
+                    .map(|k| {
+                        if k == 0 {
+                            SparseVec::from_pairs(vec![(0, F::one())])
+                        } else {
+                            SparseVec::new()
+                        }
+                    })
+                    .collect(),
+            ),
             isolated_at: offset,
             not_split: None,
         }]);

@@ -1,0 +1,180 @@
+//! Rayleigh–Schrödinger recursion for one state over the rationals, fraction-free.
+//!
+//! For a one-state model space `P = |p><p|` the wave-operator recursion of `bloch` reduces to
+//! `E_m = <p| sum_k V_k Omega_{m-k} |p>` and
+//! `Omega_m = R (sum_k V_k Omega_{m-k} - sum_{j=1..m-1} E_{m-j} Omega_j)` with `R` the reduced
+//! resolvent. Every vector is kept as integer numerators over one common denominator, so the
+//! inner loops are big-integer multiply–adds with no gcd; each vector is reduced once, by its
+//! content (ENGINE.md §8).
+
+use num_bigint::BigInt;
+use num_integer::Integer;
+use num_traits::{One, Signed, Zero};
+
+use super::bloch::{Bloch, Problem};
+use crate::exact::{Field, Rational};
+use crate::linalg::{DenseMatrix, SparseVec};
+
+/// A sparse vector `num / den` with integer entries.
+struct IntVec {
+    entries: Vec<(usize, BigInt)>,
+    den: BigInt,
+}
+
+/// A matrix with integer entries over one denominator, stored by columns.
+struct IntColumns {
+    columns: Vec<Vec<(usize, BigInt)>>,
+    den: BigInt,
+}
+
+fn integer_columns(term: &crate::linalg::SparseMatrix<Rational>) -> IntColumns {
+    let den = term.triplets().fold(BigInt::one(), |acc, (_, _, v)| acc.lcm(v.denom()));
+    let mut columns = vec![Vec::new(); term.n_cols()];
+    for (r, c, v) in term.triplets() {
+        columns[c].push((r, v.numer() * (&den / v.denom())));
+    }
+    IntColumns { columns, den }
+}
+
+/// The one-state wave operator of `problem` for state `p` to `order`, as `bloch::wave_operator`
+/// would return it.
+pub(crate) fn rayleigh_schrodinger(
+    problem: &Problem<Rational>,
+    p: usize,
+    order: usize,
+) -> Bloch<Rational> {
+    let n = problem.energies.len();
+    let terms: Vec<IntColumns> = problem.terms.iter().map(integer_columns).collect();
+    // Gaps E_p - E_i as reduced fractions a_i / b_i (None inside the level of p).
+    let gaps: Vec<Option<(BigInt, BigInt)>> = problem
+        .energies
+        .iter()
+        .enumerate()
+        .map(|(i, e)| {
+            let g = problem.energies[p].clone() - e;
+            (i != p && !g.is_zero()).then(|| (g.numer().clone(), g.denom().clone()))
+        })
+        .collect();
+    let mut omega: Vec<IntVec> =
+        vec![IntVec { entries: vec![(p, BigInt::one())], den: BigInt::one() }];
+    let mut energies: Vec<Rational> = vec![problem.energies[p].clone()];
+    let mut acc: Vec<BigInt> = vec![BigInt::zero(); n];
+    let mut touched: Vec<bool> = vec![false; n];
+    let mut support: Vec<usize> = Vec::new();
+    for m in 1..=order {
+        // Denominators of every term, and their least common multiple L.
+        let v_terms: Vec<(usize, &IntColumns)> =
+            terms.iter().enumerate().take(m).map(|(k, t)| (m - k - 1, t)).collect();
+        let mut lcm = BigInt::one();
+        for (prev, t) in &v_terms {
+            lcm = lcm.lcm(&(&t.den * &omega[*prev].den));
+        }
+        for j in 1..m {
+            let e = &energies[m - j];
+            if !e.is_zero() {
+                lcm = lcm.lcm(&(e.denom() * &omega[j].den));
+            }
+        }
+        let mut add = |i: usize, value: BigInt, acc: &mut Vec<BigInt>| {
+            if !touched[i] {
+                touched[i] = true;
+                support.push(i);
+            }
+            acc[i] += value;
+        };
+        for (prev, t) in &v_terms {
+            let vec = &omega[*prev];
+            let factor = &lcm / (&t.den * &vec.den);
+            for (c, x) in &vec.entries {
+                let fx = &factor * x;
+                for (r, v) in &t.columns[*c] {
+                    add(*r, &fx * v, &mut acc);
+                }
+            }
+        }
+        for j in 1..m {
+            let e = &energies[m - j];
+            if e.is_zero() {
+                continue;
+            }
+            let vec = &omega[j];
+            let factor = -(&lcm / (e.denom() * &vec.den)) * e.numer();
+            for (i, x) in &vec.entries {
+                add(*i, &factor * x, &mut acc);
+            }
+        }
+        support.sort_unstable();
+        // E_m from the component along p; the rest, divided by the gaps, is Omega_m.
+        let e_m = Rational::new(std::mem::take(&mut acc[p]), lcm.clone()).expect("lcm > 0");
+        let mut gap_lcm = BigInt::one();
+        for &i in &support {
+            if let Some((a, _)) = &gaps[i] {
+                if !acc[i].is_zero() {
+                    gap_lcm = gap_lcm.lcm(a);
+                }
+            }
+        }
+        let mut entries = Vec::with_capacity(support.len());
+        let mut content = BigInt::zero();
+        for &i in &support {
+            touched[i] = false;
+            let x = std::mem::take(&mut acc[i]);
+            if x.is_zero() {
+                continue;
+            }
+            let Some((a, b)) = &gaps[i] else { continue };
+            let y = x * b * (&gap_lcm / a);
+            content = content.gcd(&y);
+            entries.push((i, y));
+        }
+        support.clear();
+        let mut den = lcm * gap_lcm;
+        let g = content.gcd(&den);
+        if !g.is_one() && !g.is_zero() {
+            for (_, y) in &mut entries {
+                *y /= &g;
+            }
+            den /= &g;
+        }
+        if den.is_negative() {
+            den = -den;
+            for (_, y) in &mut entries {
+                *y = -std::mem::take(y);
+            }
+        }
+        omega.push(IntVec { entries, den });
+        energies.push(e_m);
+    }
+    let omega = omega
+        .into_iter()
+        .map(|v| {
+            let den = v.den;
+            vec![SparseVec::from_pairs(
+                v.entries
+                    .into_iter()
+                    .map(|(i, x)| (i, Rational::new(x, den.clone()).expect("den > 0")))
+                    .collect(),
+            )]
+        })
+        .collect();
+    let bloch: Vec<DenseMatrix<Rational>> =
+        energies.into_iter().map(|e| DenseMatrix::from_rows(vec![vec![e]])).collect();
+    let s_inv_half = (0..=order)
+        .map(|m| if m == 0 { DenseMatrix::identity(1) } else { DenseMatrix::zeros(1, 1) })
+        .collect();
+    Bloch { model: vec![p], omega, hermitian: bloch.clone(), bloch, s_inv_half }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn agrees_with_the_general_recursion() {
+        let problem = super::super::bloch::tests::quartic_pub(40);
+        let fast = rayleigh_schrodinger(&problem, 0, 8);
+        let general = super::super::bloch::wave_operator(&problem, &[0], 8);
+        assert_eq!(fast.bloch, general.bloch);
+        assert_eq!(fast.omega, general.omega);
+    }
+}
