@@ -914,7 +914,7 @@ fn ket(basis: &Basis, state_idx: usize) -> Tex {
     res
 }
 
-/// A model's display name for `\\texttt`, escaped, with break points after `/` and `_` so a
+/// A model's display name for `\texttt`, escaped, with break points after `/` and `_` so a
 /// long path wraps instead of running into the margin.
 fn file_name(raw: &str) -> String {
     let mut res = String::new();
