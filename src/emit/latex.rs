@@ -996,6 +996,20 @@ mod tests {
     }
 
     #[test]
+    fn kets_show_each_factor_label() {
+        use crate::model::Space;
+        let spaces = vec![
+            Space { name: "q".into(), kind: SpaceKind::Oscillator { n_states: 3 } },
+            Space { name: "s".into(), kind: SpaceKind::Spin { twice_j: 1 } },
+            Space { name: "d".into(), kind: SpaceKind::Levels { labels: vec!["L_1".into()] } },
+        ];
+        let basis = Basis::new(spaces).expect("small basis");
+        // State 3 is |1, +1/2, L_1>: the oscillator index varies slowest.
+        assert_eq!(ket(&basis, 2).text, "\\lvert 1, +\\tfrac12, \\mathrm{L\\_1}\\rangle");
+        assert_eq!(ket(&basis, 1).text, "\\lvert 0, -\\tfrac12, \\mathrm{L\\_1}\\rangle");
+    }
+
+    #[test]
     fn text_is_escaped() {
         assert_eq!(escape_text("a_b#c%d&e$f{g}"), "a\\_b\\#c\\%d\\&e\\$f\\{g\\}");
     }
