@@ -3,6 +3,7 @@
 mod support;
 
 mod cli;
+mod emit;
 mod fuzz;
 mod grammar;
 mod lower;
