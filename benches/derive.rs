@@ -1,4 +1,5 @@
 //! End-to-end `cleave derive` (parse, lower, derive, report) on the speed-target models.
+#![expect(missing_docs, reason = "criterion_group! generates an undocumented function")]
 
 use criterion::{criterion_group, criterion_main, Criterion};
 

@@ -1,4 +1,5 @@
 //! `cleave levels` on a large diagonal model and on a non-diagonal spin-orbit model.
+#![expect(missing_docs, reason = "criterion_group! generates an undocumented function")]
 
 use criterion::{criterion_group, criterion_main, Criterion};
 

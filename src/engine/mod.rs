@@ -1,6 +1,6 @@
 //! The expansion engine: effective Hamiltonians, branches and states, order by order.
 //!
-//! Start from [`derive`], which turns a [`Model`] into one [`Derivation`] that every output reads.
+//! Start from [`derive()`], which turns a [`Model`] into one [`Derivation`] that every output reads.
 //! The engine knows no output format.
 //!
 //! # How a derivation runs

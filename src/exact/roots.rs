@@ -1,8 +1,6 @@
 //! Real roots of rational polynomials, isolated exactly by Sturm sequences.
 //! Start from [`isolate_real_roots`]; intervals have rational ends, so no floating point enters.
 
-use num_traits::Signed;
-
 use super::univariate::UniPoly;
 use super::{Field, Rational};
 

@@ -333,9 +333,9 @@ fn restrict(m: &DenseMatrix<Radical>, basis: &[Vec<Radical>]) -> Option<DenseMat
         return None;
     }
     let mut res = DenseMatrix::zeros(k, k);
-    for r in 0..k {
+    for (r, row) in reduced.iter().take(k).enumerate() {
         for j in 0..k {
-            res.set(r, j, reduced[r][k + j].clone());
+            res.set(r, j, row[k + j].clone());
         }
     }
     Some(res)

@@ -21,7 +21,7 @@ fn snapshot(text: String) {
 fn derive(text: &str) -> (Model, Derivation) {
     let (model, _) = cleave::load(text).expect("test models are valid");
     let order = model.order().unwrap_or(2);
-    let derivation = engine::derive(&model, &DeriveOptions { order }).expect("derivable");
+    let derivation = engine::derive(&model, &DeriveOptions::new(order)).expect("derivable");
     (model, derivation)
 }
 
