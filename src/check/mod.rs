@@ -58,6 +58,8 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
         .map(|n| options.at.iter().find(|(m, _)| m == n).map_or(1.0, |(_, v)| v.to_f64()))
         .collect();
     let at: Vec<(String, f64)> = names.iter().cloned().zip(params.iter().copied()).collect();
+    let mut symbols = params.clone();
+    symbols.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
     let n = model.basis().dimension();
     if n > MAX_CHECK_DIMENSION {
         return Verification {
@@ -116,7 +118,7 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
     for (s, space) in derivation.model_spaces.iter().enumerate() {
         for (b, branch) in space.branches.iter().enumerate() {
             let coeffs: Option<Vec<f64>> =
-                branch.energy.iter().map(|c| evaluate(c, &params).map(|(re, _)| re)).collect();
+                branch.energy.iter().map(|c| evaluate(c, &symbols).map(|(re, _)| re)).collect();
             let Some(coeffs) = coeffs else { continue };
             let known = coeffs.len().saturating_sub(1) as u32;
             let samples: Vec<(f64, f64)> = lambdas
@@ -194,6 +196,18 @@ pub fn evaluate(value: &RatFunc, params: &[f64]) -> Option<(f64, f64)> {
     ))
 }
 
+/// The values of every symbol of `derivation` (its parameters from `at`, then its algebraic roots),
+/// indexed like the symbols values mention; `None` when a parameter has no value in `at`.
+pub fn symbol_values(derivation: &Derivation, at: &[(String, Rational)]) -> Option<Vec<f64>> {
+    let mut values: Vec<f64> = derivation
+        .parameters
+        .iter()
+        .map(|n| at.iter().find(|(m, _)| m == n).map(|(_, v)| v.to_f64()))
+        .collect::<Option<_>>()?;
+    values.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
+    Some(values)
+}
+
 /// Like [`evaluate`] with values given by parameter name; parameters without a value are `None`.
 pub fn evaluate_named(
     value: &RatFunc,
@@ -210,7 +224,8 @@ fn evaluate_poly(poly: &crate::exact::Poly, params: &[f64]) -> (f64, f64) {
     for (monomial, coeff) in poly.terms() {
         let mut factor = 1.0;
         for (p, e) in monomial.factors() {
-            factor *= params[p.0 as usize].powi(*e as i32);
+            // A symbol without a value (a root the caller did not supply) makes the value NaN.
+            factor *= params.get(p.0 as usize).copied().unwrap_or(f64::NAN).powi(*e as i32);
         }
         for (s, c) in coeff.terms() {
             let root = (s.unsigned_abs() as f64).sqrt() * c.to_f64() * factor;

@@ -99,7 +99,7 @@ struct SecularJson {
 /// The JSON of `cleave derive --json`: the contract's fields, plus `secular_equations`, `notes`,
 /// and per branch its `state` and, where the reduction stopped, `not_split`.
 pub fn json(model: &Model, derivation: &Derivation) -> String {
-    let names = derivation.parameters.clone();
+    let names = derivation.symbol_names();
     let basis = model.basis();
     let doc = DeriveJson {
         order: derivation.order,

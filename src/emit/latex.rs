@@ -87,8 +87,17 @@ pub(crate) fn latex(
     name: &str,
     options: &LatexOptions,
 ) -> String {
-    let names = &derivation.parameters;
+    let names = &latex_names(derivation);
     let mut out = String::new();
+    // Numeric values of the algebraic roots join the parameter values, under their LaTeX names.
+    let mut with_roots = options.clone();
+    if !with_roots.at.is_empty() {
+        for (r, atom) in derivation.roots.iter().enumerate() {
+            with_roots.at.push((format!("rho_{}", r + 1), atom.approximation()));
+        }
+    }
+    let plain_options = options;
+    let options = &with_roots;
     if options.standalone {
         out.push_str("\\documentclass{article}\n\\usepackage{amsmath}\n\\usepackage{booktabs}\n");
         out.push_str("\\begin{document}\n");
@@ -105,7 +114,7 @@ pub(crate) fn latex(
         );
         out.push_str("% Needs \\usepackage{amsmath} and \\usepackage{booktabs}.\n");
     }
-    out.push_str(&introduction(model, derivation, name, options));
+    out.push_str(&introduction(model, derivation, name, plain_options));
     for (idx, space) in derivation.model_spaces.iter().enumerate() {
         let context = SpaceContext {
             model,
@@ -125,6 +134,14 @@ pub(crate) fn latex(
     out
 }
 
+/// Symbol names for typesetting: the parameters, then `rho_r` for the `r`-th algebraic root
+/// (typeset `\rho_{r}`), whose definitions the introduction gives.
+fn latex_names(derivation: &Derivation) -> Vec<String> {
+    let mut names = derivation.parameters.clone();
+    names.extend((1..=derivation.roots.len()).map(|r| format!("rho_{r}")));
+    names
+}
+
 /// The convention sentence that opens the output.
 fn introduction(
     model: &Model,
@@ -132,7 +149,7 @@ fn introduction(
     name: &str,
     options: &LatexOptions,
 ) -> String {
-    let names = &derivation.parameters;
+    let names = &latex_names(derivation);
     let mut out = String::new();
     let _ = write!(
         out,
@@ -143,9 +160,22 @@ fn introduction(
         derivation.order,
         if model.perturbations().len() > 1 { " + \\lambda^2 V_2 + \\dots" } else { "" }
     );
-    if !names.is_empty() {
-        let symbols: Vec<String> = names.iter().map(|n| format!("${}$", symbol(n).text)).collect();
+    let n_params = derivation.parameters.len();
+    if n_params > 0 {
+        let symbols: Vec<String> =
+            names[..n_params].iter().map(|n| format!("${}$", symbol(n).text)).collect();
         let _ = write!(out, " Parameters: {}.", symbols.join(", "));
+    }
+    for (r, atom) in derivation.roots.iter().enumerate() {
+        let poly: Vec<RatFunc> = atom.polynomial.iter().map(RatFunc::from_rational).collect();
+        let _ = write!(
+            out,
+            " ${}$ is the {} real root (in ascending order) of ${} = 0$, $\\approx {:.12}$.",
+            symbol(&names[n_params + r]).text,
+            ordinal(atom.index),
+            polynomial_tex(&poly),
+            atom.approximation().to_f64()
+        );
     }
     if !options.at.is_empty() {
         let _ = write!(out, " Numeric values are given at {}.", at_text(&options.at, names));
@@ -155,6 +185,50 @@ fn introduction(
          convergent, so use them only where their terms still decrease.\\par}\n",
     );
     out
+}
+
+/// `1st`, `2nd`, `3rd`, `4th`, ... in words a reader expects.
+fn ordinal(k: usize) -> String {
+    match k {
+        1 => "first".into(),
+        2 => "second".into(),
+        3 => "third".into(),
+        _ => format!("{k}th"),
+    }
+}
+
+/// `x^3 - x^2 - 2 x + 1` for rational coefficients, highest power first.
+fn polynomial_tex(coeffs: &[RatFunc]) -> String {
+    let no_names: Vec<String> = Vec::new();
+    let mut res = String::new();
+    for (k, c) in coeffs.iter().enumerate().rev() {
+        if c.is_zero() {
+            continue;
+        }
+        let text = inline_value(&terms::fraction(c), &no_names).text;
+        let (sign, magnitude) = match text.strip_prefix('-') {
+            Some(rest) => ("-", rest.trim().to_string()),
+            None => ("+", text),
+        };
+        if res.is_empty() {
+            if sign == "-" {
+                res.push('-');
+            }
+        } else {
+            res.push_str(if sign == "-" { " - " } else { " + " });
+        }
+        let power = match k {
+            0 => String::new(),
+            1 => "x".into(),
+            _ => format!("x^{{{k}}}"),
+        };
+        match (power.is_empty(), magnitude.as_str()) {
+            (true, m) => res.push_str(m),
+            (false, "1") => res.push_str(&power),
+            (false, m) => res.push_str(&format!("{m} {power}")),
+        }
+    }
+    res
 }
 
 /// `$g = \frac{1}{10}$, $t = 2$` for the `--at` values.

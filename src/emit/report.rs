@@ -64,17 +64,26 @@ fn params_suffix(names: &[String]) -> String {
 
 /// The readable report of `cleave derive`.
 pub fn report(model: &Model, derivation: &Derivation, name: &str, at: &ParamValues) -> String {
-    let names = derivation.parameters.clone();
+    let names = derivation.symbol_names();
+    let mut at_with_roots = at.clone();
+    if !at.is_empty() {
+        at_with_roots.extend(derivation.roots.iter().map(|r| (r.name(), r.approximation())));
+    }
+    let at = &at_with_roots;
     let mut out = String::new();
     let _ = writeln!(out, "Perturbation series of {name} to order {}", derivation.order);
     let _ = writeln!(
         out,
         "H(lambda) = H0 + lambda V{}{}; coefficients of lambda^k, exact.",
         if model.perturbations().len() > 1 { " + lambda^2 V2 + ..." } else { "" },
-        params_suffix(&names)
+        params_suffix(&derivation.parameters)
     );
     if !at.is_empty() {
-        let values: Vec<String> = at.iter().map(|(n, v)| format!("{n} = {v}")).collect();
+        let values: Vec<String> = at
+            .iter()
+            .filter(|(n, _)| derivation.parameters.contains(n))
+            .map(|(n, v)| format!("{n} = {v}"))
+            .collect();
         let _ = writeln!(out, "Numeric values in [brackets] at {}.", values.join(", "));
     }
     for (k, space) in derivation.model_spaces.iter().enumerate() {

@@ -43,7 +43,12 @@ struct Ident {
 /// The Rust module of `cleave derive --rust`.
 pub(crate) fn rust(model: &Model, derivation: &Derivation, name: &str) -> String {
     let names = &derivation.parameters;
-    let idents = param_idents(names);
+    let mut idents = param_idents(names);
+    // Roots of cubics become constants, named after their place in the derivation's list.
+    for r in 0..derivation.roots.len() {
+        let code = format!("ROOT_{}", r + 1);
+        idents.push(Ident { code: code.clone(), bare: code });
+    }
     let mut body = String::new();
     let mut roots: BTreeSet<u64> = BTreeSet::new();
     let mut dispatch: Vec<(String, Vec<usize>)> = Vec::new();
@@ -88,6 +93,16 @@ pub(crate) fn rust(model: &Model, derivation: &Derivation, name: &str) -> String
          pub const BRANCHES: usize = {};\n",
         dispatch.len()
     );
+    for (r, atom) in derivation.roots.iter().enumerate() {
+        let _ = writeln!(
+            out,
+            "/// `{}`: the exact algebraic number, rounded once to the nearest `f64`.\n\
+             const ROOT_{}: f64 = {:?};\n",
+            atom.name(),
+            r + 1,
+            atom.approximation().to_f64()
+        );
+    }
     for root in &roots {
         let value = (*root as f64).sqrt();
         let _ = writeln!(
@@ -191,7 +206,7 @@ fn branch_function(
     idents: &[Ident],
     roots: &mut BTreeSet<u64>,
 ) -> Vec<usize> {
-    let names = &derivation.parameters;
+    let names = &derivation.symbol_names();
     let d = space.basis.len();
     let split = match (&branch.not_split, branch.split_at) {
         (Some(ns), _) => format!("not split at order {}", ns.order),
@@ -229,7 +244,7 @@ fn branch_function(
     let coefficients: Vec<String> =
         branch.energy.iter().map(|c| value_code(c, idents, roots).0).collect();
     let used = used_params(branch.energy.iter());
-    let (args, allow) = arguments(idents, &used);
+    let (args, allow) = arguments(&idents[..derivation.parameters.len()], &used);
     if allow {
         out.push_str("#[allow(non_snake_case)]\n");
     }
@@ -239,7 +254,7 @@ fn branch_function(
         let _ = writeln!(out, "            {c},");
     }
     out.push_str("        ],\n        lambda,\n    )\n}\n");
-    (0..idents.len()).collect()
+    (0..derivation.parameters.len()).collect()
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -253,7 +268,7 @@ fn hamiltonian_function(
     idents: &[Ident],
     roots: &mut BTreeSet<u64>,
 ) {
-    let names = &derivation.parameters;
+    let names = &derivation.symbol_names();
     let d = space.basis.len();
     let _ = writeln!(
         out,
@@ -302,7 +317,7 @@ fn hamiltonian_function(
         entries.push(row);
     }
     let used = used_params(all_values.into_iter());
-    let (args, allow) = arguments(idents, &used);
+    let (args, allow) = arguments(&idents[..derivation.parameters.len()], &used);
     if allow {
         out.push_str("#[allow(non_snake_case)]\n");
     }

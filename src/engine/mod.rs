@@ -17,6 +17,7 @@
 //! or rational functions of the parameters.
 #![deny(clippy::float_arithmetic)]
 
+mod algebraic;
 mod bloch;
 mod fast;
 mod split;
@@ -27,6 +28,7 @@ use crate::exact::{Field, Radical, RatFunc, Rational, SquareRoot};
 use crate::linalg::{DenseMatrix, SparseMatrix, SparseVec};
 use crate::model::{Model, SpaceKind};
 use crate::spectrum::{self, Spectrum};
+use algebraic::Context;
 use bloch::Problem;
 use split::{branches, lift, FieldTooSmall, RawBranch, RawSecular, Stage};
 
@@ -64,6 +66,41 @@ pub struct Derivation {
     pub spectrum: Spectrum,
     /// One entry per model space, in `focus` order or in level order.
     pub model_spaces: Vec<ModelSpace>,
+    /// Algebraic numbers that square roots cannot write; root `r` appears in values as the symbol
+    /// `ParamId(parameters.len() + r)`.
+    pub roots: Vec<RootAtom>,
+}
+
+impl Derivation {
+    /// Names of every symbol a value may mention: the parameters, then `root(P, k)` for each root.
+    pub fn symbol_names(&self) -> Vec<String> {
+        let mut names = self.parameters.clone();
+        names.extend(self.roots.iter().map(RootAtom::name));
+        names
+    }
+}
+
+/// The `index`-th real root (1-based, ascending) of a monic irreducible rational polynomial.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct RootAtom {
+    /// Coefficients of the monic polynomial `P`, from `x^0` up.
+    pub polynomial: Vec<Rational>,
+    /// Which real root, counting from 1 in ascending order.
+    pub index: usize,
+    /// An isolating interval `(lo, hi]` narrower than `2^-80`.
+    pub interval: (Rational, Rational),
+}
+
+impl RootAtom {
+    /// `root(P, k)` in the contract's syntax.
+    pub fn name(&self) -> String {
+        let p = crate::exact::univariate::UniPoly::new(self.polynomial.clone());
+        format!("root({}, {})", p.display("x"), self.index)
+    }
+    /// The midpoint of the isolating interval, within `2^-80` of the root.
+    pub fn approximation(&self) -> Rational {
+        (self.interval.0.clone() + &self.interval.1) * Rational::ratio(1, 2).expect("2 != 0")
+    }
 }
 
 /// The results for one model space.
@@ -226,6 +263,8 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
     let spaces = model_space_levels(model, &spectrum)?;
     let n = working.problem.energies.len() as u64;
     let mut model_spaces = Vec::new();
+    let mut ctx =
+        Context { secular: Vec::new(), roots: Vec::new(), n_params: model.params().len() as u32 };
     for levels in spaces {
         let indices: Vec<usize> = (0..working.level_of.len())
             .filter(|&i| levels.contains(&working.level_of[i]))
@@ -247,9 +286,16 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
             &levels,
             &indices,
             order as usize,
+            &mut ctx,
         ));
     }
-    Ok(Derivation { order, parameters: model.param_names(), spectrum, model_spaces })
+    Ok(Derivation {
+        order,
+        parameters: model.param_names(),
+        spectrum,
+        model_spaces,
+        roots: ctx.roots,
+    })
 }
 
 /// Rewrites H0 + V in the basis of H0 eigenvectors: `A_0` diagonal, metric `g_i = <u_i, u_i>`,
@@ -342,16 +388,17 @@ fn solve_in<F: Scalar>(
     problem: &Problem<F>,
     indices: &[usize],
     order: usize,
+    ctx: &mut Context,
 ) -> Result<RawSpace<F>, FieldTooSmall> {
     let bloch = bloch::wave_operator(problem, indices, order);
     let stage = Stage {
         series: bloch.hermitian.clone(),
         metric: indices.iter().map(|&i| problem.metric[i].clone()).collect(),
     };
-    let mut secular = Vec::new();
-    let raw = branches(stage, 0, &mut secular)?;
+    ctx.secular.clear();
+    let raw = branches(stage, 0, ctx)?;
     let vectors = raw.iter().map(|b| b.vector.as_ref().map(|c| lift(&bloch, c))).collect();
-    Ok(RawSpace { bloch, branches: raw, secular, vectors })
+    Ok(RawSpace { bloch, branches: raw, secular: std::mem::take(&mut ctx.secular), vectors })
 }
 
 /// A one-state model space over the rationals: the fraction-free recursion of `fast`.
@@ -361,7 +408,7 @@ fn solve_one_state(
     order: usize,
 ) -> Result<RawSpace<Rational>, FieldTooSmall> {
     let bloch = fast::rayleigh_schrodinger(problem, p, order);
-    let energy = bloch.bloch.iter().map(|m| m.get(0, 0).clone()).collect();
+    let energy = bloch.bloch.iter().map(|m| m.get(0, 0).to_ratfunc()).collect();
     let vectors = vec![Some(bloch.omega.iter().map(|cols| cols[0].clone()).collect())];
     let branch = RawBranch {
         energy,
@@ -421,7 +468,7 @@ fn to_solved<F: Scalar>(
             .branches
             .iter()
             .map(|b| RawBranch {
-                energy: b.energy.iter().map(F::to_ratfunc).collect(),
+                energy: b.energy.clone(),
                 multiplicity: b.multiplicity,
                 split_at: b.split_at,
                 vector: None,
@@ -439,7 +486,13 @@ fn to_solved<F: Scalar>(
 }
 
 /// Solves one model space in the smallest field that works.
-fn solve_fields(working: &Working, indices: &[usize], order: usize, states_to: usize) -> Solved {
+fn solve_fields(
+    working: &Working,
+    indices: &[usize],
+    order: usize,
+    states_to: usize,
+    ctx: &mut Context,
+) -> Solved {
     let problem = &working.problem;
     if let Some(radical) = try_convert::<Radical>(problem) {
         if indices.len() == 1 {
@@ -451,11 +504,11 @@ fn solve_fields(working: &Working, indices: &[usize], order: usize, states_to: u
                 }
             }
         }
-        if let Ok(raw) = solve_in(&radical, indices, order) {
+        if let Ok(raw) = solve_in(&radical, indices, order, ctx) {
             return to_solved(raw, None, states_to);
         }
     }
-    let raw = solve_in(problem, indices, order).expect("rational functions hold every value");
+    let raw = solve_in(problem, indices, order, ctx).expect("rational functions hold every value");
     to_solved(raw, None, states_to)
 }
 
@@ -525,8 +578,9 @@ fn solve_model_space(
     levels: &[usize],
     indices: &[usize],
     order: usize,
+    ctx: &mut Context,
 ) -> ModelSpace {
-    let solved = solve_fields(working, indices, order, states_to);
+    let solved = solve_fields(working, indices, order, states_to, ctx);
     let n_basis = indices.len();
     // Model-space basis in the product basis, normalized where exact.
     let basis_norms: Vec<RatFunc> =

@@ -6,6 +6,7 @@
 //! eigenspace becomes a model space of its own, with its own effective Hamiltonian (Kato,
 //! Perturbation Theory for Linear Operators, 1966, ch. II §2.3, the reduction process).
 
+use super::algebraic::{cubic_branches, Context};
 use super::bloch::{wave_operator, Bloch, Problem};
 use super::Scalar;
 use crate::exact::{Field, RatFunc};
@@ -22,7 +23,8 @@ pub(crate) struct Stage<F> {
 #[derive(Clone, Debug)]
 pub(crate) struct RawBranch<F> {
     /// Energy coefficients from `lambda^0` up; shorter than the stage when it did not split.
-    pub energy: Vec<F>,
+    /// Written as rational functions, in which roots of cubics appear as extra symbols.
+    pub energy: Vec<RatFunc>,
     /// How many states stay together at the last order computed.
     pub multiplicity: usize,
     /// Order at which this branch's group became distinct from the rest of its model space.
@@ -53,13 +55,13 @@ pub(crate) struct FieldTooSmall;
 pub(crate) fn branches<F: Scalar>(
     stage: Stage<F>,
     offset: usize,
-    secular: &mut Vec<RawSecular>,
+    ctx: &mut Context,
 ) -> Result<Vec<RawBranch<F>>, FieldTooSmall> {
     let d = stage.metric.len();
     let a0 = &stage.series[0];
     if d == 1 {
         return Ok(vec![RawBranch {
-            energy: stage.series.iter().map(|m| m.get(0, 0).clone()).collect(),
+            energy: stage.series.iter().map(|m| m.get(0, 0).to_ratfunc()).collect(),
             multiplicity: 1,
             split_at: None,
             // The one state is the eigenvector at every order this stage knows.
@@ -81,7 +83,7 @@ pub(crate) fn branches<F: Scalar>(
     if let Some(mu) = scalar_value(a0) {
         if stage.series.len() == 1 {
             return Ok(vec![RawBranch {
-                energy: vec![mu],
+                energy: vec![mu.to_ratfunc()],
                 multiplicity: d,
                 split_at: None,
                 vector: None,
@@ -90,7 +92,8 @@ pub(crate) fn branches<F: Scalar>(
             }]);
         }
         let child = Stage { series: stage.series[1..].to_vec(), metric: stage.metric.clone() };
-        let mut res = branches(child, offset + 1, secular)?;
+        let mut res = branches(child, offset + 1, ctx)?;
+        let mu = mu.to_ratfunc();
         for b in &mut res {
             b.energy.insert(0, mu.clone());
         }
@@ -101,6 +104,23 @@ pub(crate) fn branches<F: Scalar>(
     let spaces = match eigen::eigenspaces(&a0_rf, &metric_rf) {
         Ok(spaces) => spaces,
         Err(not_split) => {
+            let series_rf: Vec<DenseMatrix<RatFunc>> =
+                stage.series.iter().map(|m| m.map(F::to_ratfunc)).collect();
+            if let Some(res) = cubic_branches(&series_rf, &metric_rf, offset, ctx) {
+                // Each branch stands alone from here; its state is not carried through the
+                // extension field.
+                return Ok(res
+                    .into_iter()
+                    .map(|energy| RawBranch {
+                        energy,
+                        multiplicity: 1,
+                        split_at: Some(offset),
+                        vector: None,
+                        isolated_at: offset,
+                        not_split: None,
+                    })
+                    .collect());
+            }
             return Ok(vec![RawBranch {
                 energy: Vec::new(),
                 multiplicity: d,
@@ -111,7 +131,7 @@ pub(crate) fn branches<F: Scalar>(
             }]);
         }
     };
-    secular.push(RawSecular {
+    ctx.secular.push(RawSecular {
         order: offset,
         characteristic: a0_rf.characteristic_polynomial(),
         roots: spaces.iter().map(|s| (s.value.clone(), s.vectors.len())).collect(),
@@ -162,7 +182,7 @@ pub(crate) fn branches<F: Scalar>(
             series: bloch.hermitian.clone(),
             metric: group.iter().map(|&i| problem.metric[i].clone()).collect(),
         };
-        for mut b in branches(child, offset, secular)? {
+        for mut b in branches(child, offset, ctx)? {
             b.split_at = b.split_at.or(Some(offset));
             b.vector = b.vector.map(|c| {
                 lift(&bloch, &c)

@@ -4,6 +4,7 @@
 //! This module knows nothing of matrices, physics, output formats or floating point.
 #![deny(clippy::float_arithmetic)]
 
+mod algebraic;
 mod poly;
 mod radical;
 mod ratfunc;
@@ -14,6 +15,7 @@ pub mod univariate;
 use std::fmt::Debug;
 use std::ops::{Add, AddAssign, Mul, MulAssign, Neg, Sub, SubAssign};
 
+pub use algebraic::{Algebraic, ALPHA};
 pub use poly::{Monomial, Poly};
 pub use radical::Radical;
 pub use ratfunc::RatFunc;

@@ -250,6 +250,41 @@ impl<F: Field> DenseMatrix<F> {
         res
     }
 
+    /// The inverse by Gauss–Jordan elimination, `None` when the matrix is singular.
+    pub fn inverse(&self) -> Option<Self> {
+        let n = self.n_rows;
+        let mut m = self.clone();
+        let mut inv = Self::identity(n);
+        for col in 0..n {
+            let pivot = (col..n).find(|&r| !m.get(r, col).is_zero())?;
+            if pivot != col {
+                for j in 0..n {
+                    m.data.swap(pivot * n + j, col * n + j);
+                    inv.data.swap(pivot * n + j, col * n + j);
+                }
+            }
+            let p = m.get(col, col).inv().expect("pivot is non-zero");
+            for j in 0..n {
+                let (a, b) = (m.get(col, j).mul_ref(&p), inv.get(col, j).mul_ref(&p));
+                m.set(col, j, a);
+                inv.set(col, j, b);
+            }
+            for r in 0..n {
+                if r == col || m.get(r, col).is_zero() {
+                    continue;
+                }
+                let factor = m.get(r, col).clone();
+                for j in 0..n {
+                    let a = m.get(r, j).clone() - factor.mul_ref(m.get(col, j));
+                    let b = inv.get(r, j).clone() - factor.mul_ref(inv.get(col, j));
+                    m.set(r, j, a);
+                    inv.set(r, j, b);
+                }
+            }
+        }
+        Some(inv)
+    }
+
     /// The characteristic polynomial `det(x - self)`, coefficients from `x^0` up, by the
     /// Faddeev–LeVerrier recursion (Gantmacher, The Theory of Matrices, 1959, ch. IV §4):
     /// `M_k = A M_{k-1} + c_{n-k+1} I`, `c_{n-k} = -tr(A M_k)/k`.
@@ -285,6 +320,16 @@ mod tests {
         // [[1, 2], [3, 4]]: x^2 - 5x - 2 (trace 5, determinant -2).
         let a = DenseMatrix::from_rows(vec![vec![r(1), r(2)], vec![r(3), r(4)]]);
         assert_eq!(a.characteristic_polynomial(), vec![r(-2), r(-5), r(1)]);
+    }
+
+    #[test]
+    fn inverse_of_2x2() {
+        let a = DenseMatrix::from_rows(vec![vec![r(2), r(1)], vec![r(1), r(1)]]);
+        let inv = a.inverse().expect("invertible");
+        assert_eq!(a.mul(&inv), DenseMatrix::identity(2));
+        assert!(DenseMatrix::from_rows(vec![vec![r(1), r(1)], vec![r(1), r(1)]])
+            .inverse()
+            .is_none());
     }
 
     #[test]

@@ -161,7 +161,7 @@ pub fn inner(x: &[RatFunc], y: &[RatFunc], metric: &[RatFunc]) -> RatFunc {
 }
 
 /// `a = sum_k c_k M_k` with the `c_k` independent over the constants and `M_k` numeric.
-fn constant_parts(a: &DenseMatrix<RatFunc>) -> Vec<(RatFunc, DenseMatrix<Radical>)> {
+pub(crate) fn constant_parts(a: &DenseMatrix<RatFunc>) -> Vec<(RatFunc, DenseMatrix<Radical>)> {
     if let Some(numeric) = a.try_map(RatFunc::as_constant) {
         return vec![(RatFunc::one(), numeric)];
     }

@@ -1,0 +1,181 @@
+//! Branches whose leading coefficients are roots of an irreducible cubic: the computation moves
+//! to the extension field `K(alpha)` and each root is reported as `root(P, k)` (ENGINE.md §6).
+//!
+//! A stage whose secular matrix has simple eigenvalues that square roots cannot write is solved
+//! with spectral projectors instead of an eigenbasis: the other roots of the cubic do not lie in
+//! `K(alpha)`, so no basis of the complement is formed. For a simple eigenvalue `mu` with right
+//! eigenvector `v` and left eigenvector `w` (`w^T v = 1`), Rayleigh–Schrödinger theory reads
+//! `E_m = w^T sum_k A_k Omega_{m-k}`, `Omega_m = M^{-1} Q (sum_k A_k Omega_{m-k}
+//! - sum_{j=1..m-1} E_{m-j} Omega_j)` with `Q = 1 - v w^T` and `M = mu - A_0 + v w^T`, which is
+//! invertible and equals `mu - A_0` on the range of `Q` (Kato 1966, ch. II §2, the reduced
+//! resolvent).
+
+use super::split::RawSecular;
+use super::RootAtom;
+use crate::exact::univariate::UniPoly;
+use crate::exact::{
+    roots, Algebraic, Field, Monomial, ParamId, Poly, Radical, RatFunc, Rational, ALPHA,
+};
+use crate::linalg::DenseMatrix;
+use crate::spectrum::eigen;
+
+/// Shared state of one derivation's reductions.
+pub(crate) struct Context {
+    /// Secular problems met, in order.
+    pub secular: Vec<RawSecular>,
+    /// Algebraic numbers met so far, for the whole derivation.
+    pub roots: Vec<RootAtom>,
+    /// Number of model parameters: root `r` is written as `ParamId(n_params + r)`.
+    pub n_params: u32,
+}
+
+/// The energy series of the simple eigenvalue `mu` of `series[0]` (self-adjoint for `metric`),
+/// to the order of `series`; `None` when `mu` is not a simple eigenvalue.
+pub(crate) fn simple_eigenvalue_series<E: Field>(
+    series: &[DenseMatrix<E>],
+    metric: &[E],
+    mu: &E,
+) -> Option<Vec<E>> {
+    let d = metric.len();
+    let a0 = &series[0];
+    let mut shifted = a0.clone();
+    for i in 0..d {
+        let v = shifted.get(i, i).clone() - mu;
+        shifted.set(i, i, v);
+    }
+    let kernel = shifted.null_space();
+    let [v] = kernel.as_slice() else { return None };
+    // w^T x = <v, x> / <v, v> for the metric, since A_0 is self-adjoint.
+    let weighted: Vec<E> = v.iter().zip(metric).map(|(x, g)| x.conj() * g).collect();
+    let norm: E = weighted.iter().zip(v).fold(E::zero(), |acc, (a, b)| acc + a.clone() * b);
+    let inv_norm = norm.inv()?;
+    let w: Vec<E> = weighted.into_iter().map(|x| x * &inv_norm).collect();
+    let project =
+        |x: &[E]| -> E { w.iter().zip(x).fold(E::zero(), |acc, (a, b)| acc + a.clone() * b) };
+    let mut m = DenseMatrix::zeros(d, d);
+    for i in 0..d {
+        for j in 0..d {
+            let mut x = v[i].clone() * &w[j] - a0.get(i, j);
+            if i == j {
+                x += mu;
+            }
+            m.set(i, j, x);
+        }
+    }
+    let m_inv = m.inverse()?;
+    let mut omega: Vec<Vec<E>> = vec![v.clone()];
+    let mut energy = vec![mu.clone()];
+    for order in 1..series.len() {
+        let mut y = vec![E::zero(); d];
+        for (k, a_k) in series.iter().enumerate().skip(1).take(order) {
+            for (yi, x) in y.iter_mut().zip(a_k.mul_vec(&omega[order - k])) {
+                *yi += &x;
+            }
+        }
+        let e = project(&y);
+        for j in 1..order {
+            let c = &energy[order - j];
+            for (yi, x) in y.iter_mut().zip(&omega[j]) {
+                *yi -= &c.mul_ref(x);
+            }
+        }
+        let along = project(&y);
+        for (yi, vi) in y.iter_mut().zip(v) {
+            *yi -= &along.mul_ref(vi);
+        }
+        omega.push(m_inv.mul_vec(&y));
+        energy.push(e);
+    }
+    Some(energy)
+}
+
+/// Splits a stage whose leading matrix is `c M` with a scalar `c` and a numeric `M` whose
+/// characteristic polynomial is rational with simple roots, rational or of one irreducible cubic.
+/// Returns the energy series of every branch; `None` when the stage is of another kind.
+pub(crate) fn cubic_branches(
+    series: &[DenseMatrix<RatFunc>],
+    metric: &[RatFunc],
+    offset: usize,
+    ctx: &mut Context,
+) -> Option<Vec<Vec<RatFunc>>> {
+    let [(scale, numeric)] = eigen::constant_parts(&series[0]).try_into().ok()?;
+    let char_poly: Vec<Rational> = numeric
+        .characteristic_polynomial()
+        .iter()
+        .map(Radical::as_rational)
+        .collect::<Option<_>>()?;
+    let poly = UniPoly::new(char_poly);
+    if poly.square_free_part().degree() != poly.degree() {
+        return None;
+    }
+    let rational: Vec<Rational> = poly.rational_roots().into_iter().map(|(r, _)| r).collect();
+    let mut cubic = poly.clone();
+    for r in &rational {
+        cubic = cubic.deflate(r)?;
+    }
+    if cubic.degree() != Some(3) {
+        return None;
+    }
+    let cubic = cubic.monic();
+    let intervals = roots::isolate_real_roots(&cubic);
+    if intervals.len() != 3 {
+        return None;
+    }
+    let lifted: Vec<DenseMatrix<Algebraic>> =
+        series.iter().map(|m| m.map(|x| Algebraic::constant(x.clone()))).collect();
+    let lifted_metric: Vec<Algebraic> =
+        metric.iter().map(|g| Algebraic::constant(g.clone())).collect();
+    let alpha = Algebraic::generator(&cubic) * Algebraic::constant(scale.clone());
+    let in_alpha = simple_eigenvalue_series(&lifted, &lifted_metric, &alpha)?;
+
+    let mut res: Vec<Vec<RatFunc>> = Vec::new();
+    for r in &rational {
+        let mu = scale.clone() * RatFunc::from_rational(r);
+        res.push(simple_eigenvalue_series(series, metric, &mu)?);
+    }
+    let width = Rational::new(1.into(), num_bigint::BigInt::from(1) << 80).expect("non-zero");
+    for (k, interval) in intervals.into_iter().enumerate() {
+        let refined = roots::refine(&cubic, interval, &width);
+        let atom =
+            RootAtom { polynomial: cubic.coeffs().to_vec(), index: k + 1, interval: refined };
+        let slot = match ctx
+            .roots
+            .iter()
+            .position(|a| a.polynomial == atom.polynomial && a.index == atom.index)
+        {
+            Some(slot) => slot,
+            None => {
+                ctx.roots.push(atom);
+                ctx.roots.len() - 1
+            }
+        };
+        let id = ParamId(ctx.n_params + slot as u32);
+        res.push(in_alpha.iter().map(|e| rename_alpha(&e.to_ratfunc(), id)).collect());
+    }
+    ctx.secular.push(RawSecular {
+        order: offset,
+        characteristic: series[0].characteristic_polynomial(),
+        roots: res.iter().map(|e| (e[0].clone(), 1)).collect(),
+    });
+    Some(res)
+}
+
+/// `value` with the placeholder [`ALPHA`] renamed to `id`.
+fn rename_alpha(value: &RatFunc, id: ParamId) -> RatFunc {
+    let rename = |p: &Poly| {
+        Poly::from_terms(
+            p.terms()
+                .iter()
+                .map(|(m, c)| {
+                    let factors = m
+                        .factors()
+                        .iter()
+                        .map(|(q, e)| (if *q == ALPHA { id } else { *q }, *e))
+                        .collect();
+                    (Monomial::new(factors), c.clone())
+                })
+                .collect(),
+        )
+    };
+    RatFunc::new(rename(value.numer()), rename(value.denom())).expect("non-zero denominator")
+}
