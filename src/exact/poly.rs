@@ -547,19 +547,28 @@ impl fmt::Display for PolyDisplay<'_> {
     }
 }
 
-/// The gcd of a list of polynomials, monic; stops early once it reaches `1`.
-fn gcd_all(polys: &[Poly]) -> Poly {
-    let mut res = Poly::zero();
-    for p in polys {
-        if p.is_zero() {
-            continue;
-        }
-        res = res.gcd(p);
+/// The gcd of `start` and a list of polynomials, monic. The smallest entries go first and the
+/// fold stops once it reaches `1`, which for coprime inputs usually happens at once.
+fn gcd_fold(start: Poly, polys: &[Poly]) -> Poly {
+    let mut order: Vec<&Poly> = polys.iter().filter(|p| !p.is_zero()).collect();
+    order.sort_by_key(|p| p.terms.len());
+    let mut res = start;
+    for p in order {
         if res.is_one() {
             break;
         }
+        res = res.gcd(p);
     }
-    res
+    res.monic()
+}
+
+/// The primitive part with respect to the coefficient list's own content.
+fn primitive_part(coeffs: Vec<Poly>) -> Vec<Poly> {
+    let content = gcd_fold(Poly::zero(), &coeffs);
+    if content.is_one() {
+        return coeffs;
+    }
+    coeffs.iter().map(|p| p.div_exact(&content).expect("content divides every entry")).collect()
 }
 
 /// Gcd of two non-constant polynomials without monomial content, monic.
@@ -572,41 +581,50 @@ fn gcd_no_monomial(left: &Poly, right: &Poly) -> Poly {
     if left_monic == right_monic {
         return left_monic;
     }
-    // Trial division catches the frequent case of one factor list containing the other.
-    if left.terms.len() <= right.terms.len() {
-        if right.div_exact(left).is_some() {
-            return left_monic;
-        }
-    } else if left.div_exact(right).is_some() {
-        return right_monic;
+    let (small, large) = if left.terms.len() <= right.terms.len() {
+        (&left_monic, &right_monic)
+    } else {
+        (&right_monic, &left_monic)
+    };
+    // Trial division catches the frequent case of one factor list containing the other, and a
+    // polynomial of total degree one is irreducible, so for it the division decides.
+    if large.div_exact(small).is_some() {
+        return small.clone();
+    }
+    if small.degree() == 1 {
+        return Poly::one();
     }
     let left_params = left.params();
     let right_params = right.params();
-    // A parameter present on one side only cannot occur in the gcd, so the gcd divides that
-    // side's content with respect to it.
+    // A parameter present on one side only cannot occur in the gcd, so the gcd divides each of
+    // that side's coefficients with respect to it.
     if let Some(&x) = left_params.difference(&right_params).next() {
-        return gcd_all(&left.coeffs_in(x)).gcd(right);
+        return gcd_fold(right_monic, &left.coeffs_in(x));
     }
     if let Some(&x) = right_params.difference(&left_params).next() {
-        return gcd_all(&right.coeffs_in(x)).gcd(left);
+        return gcd_fold(left_monic, &right.coeffs_in(x));
     }
-    // Main parameter: the one of smallest degree keeps the remainder sequence short.
+    // Main parameter: the smallest degree on the smaller side keeps the remainder sequence short,
+    // and a constant leading coefficient there allows plain division instead of pseudo-division.
     let x = *left_params
         .iter()
-        .min_by_key(|p| left.degree_in(**p).max(right.degree_in(**p)))
+        .min_by_key(|p| {
+            let small_degree = small.degree_in(**p);
+            let lead = &small.coeffs_in(**p)[small_degree as usize];
+            (small_degree, lead.is_constant().is_none(), large.degree_in(**p))
+        })
         .expect("a non-constant polynomial has a parameter");
-    let left_coeffs = left.coeffs_in(x);
-    let right_coeffs = right.coeffs_in(x);
-    let left_content = gcd_all(&left_coeffs);
-    let right_content = gcd_all(&right_coeffs);
-    let content = left_content.gcd(&right_content);
-    let mut a = divide_all(&left_coeffs, &left_content);
-    let mut b = divide_all(&right_coeffs, &right_content);
+    let mut a = large.coeffs_in(x);
+    let mut b = small.coeffs_in(x);
     if a.len() < b.len() {
         std::mem::swap(&mut a, &mut b);
     }
-    // Primitive pseudo-remainder sequence: each remainder is made primitive so that the
-    // coefficients stay as small as the gcd itself.
+    // gcd = gcd(contents) * gcd(primitive parts). The contents share one fold that usually stops
+    // at `1` after a step or two; the primitive part of the last non-zero remainder of any
+    // remainder sequence of `a` and `b` is the gcd of their primitive parts.
+    let mut all_coeffs = a.clone();
+    all_coeffs.extend(b.iter().cloned());
+    let content = gcd_fold(Poly::zero(), &all_coeffs);
     loop {
         let rem = pseudo_remainder(&a, &b);
         if rem.is_empty() {
@@ -615,20 +633,12 @@ fn gcd_no_monomial(left: &Poly, right: &Poly) -> Poly {
         if rem.len() == 1 {
             return content;
         }
-        let rem_content = gcd_all(&rem);
+        // Making each remainder primitive keeps coefficients as small as the gcd itself.
         a = b;
-        b = divide_all(&rem, &rem_content);
+        b = primitive_part(rem);
     }
-    // The last non-zero remainder was made primitive, so it is the gcd of the primitive parts.
-    (&content * &Poly::from_coeffs(&b, x)).monic()
-}
-
-/// Divides each entry exactly by `divisor`, which is known to divide all of them.
-fn divide_all(polys: &[Poly], divisor: &Poly) -> Vec<Poly> {
-    if divisor.is_one() {
-        return polys.to_vec();
-    }
-    polys.iter().map(|p| p.div_exact(divisor).expect("divisor is a common factor")).collect()
+    let last = Poly::from_coeffs(&primitive_part(b), x);
+    (&content * &last).monic()
 }
 
 /// Pseudo-remainder of `a` by `b` as polynomials in one parameter with polynomial coefficients

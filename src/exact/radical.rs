@@ -395,7 +395,7 @@ impl Field for Radical {
     }
 }
 
-/// A square root with `depth` levels of denesting left (see [`SquareRoot for Radical`]).
+/// A square root with `depth` levels of denesting left (see the `SquareRoot` impl below).
 fn sqrt_depth(x: &Radical, depth: u32) -> Option<Radical> {
     if let Some(r) = x.as_rational() {
         return Some(Radical::sqrt_of(&r));

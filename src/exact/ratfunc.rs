@@ -156,6 +156,10 @@ impl RatFunc {
         if self.numer.is_zero() || rhs.numer.is_zero() {
             return RatFunc::zero();
         }
+        if self == rhs {
+            // A square of a reduced fraction is reduced: no gcd needed.
+            return RatFunc { numer: &self.numer * &self.numer, denom: &self.denom * &self.denom };
+        }
         // Cross-cancel: n1 and d1 are coprime and so are n2 and d2, so after removing
         // gcd(n1, d2) and gcd(n2, d1) the product is in lowest terms.
         let left_cancel = self.numer.gcd(&rhs.denom);

@@ -187,3 +187,40 @@ impl From<i64> for Rational {
         Rational::from_i64(value)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn small_rational() -> impl Strategy<Value = Rational> {
+        (-6i64..=6, 1i64..=6).prop_map(|(n, d)| Rational::ratio(n, d).expect("d is positive"))
+    }
+
+    #[test]
+    fn square_roots_and_display() {
+        let q = |n, d| Rational::ratio(n, d).expect("non-zero denominator");
+        assert_eq!(q(9, 4).sqrt(), Some(q(3, 2)));
+        assert_eq!(q(2, 1).sqrt(), None);
+        assert_eq!(q(-4, 1).sqrt(), None);
+        assert_eq!(q(-42, 16).to_string(), "-21/8");
+        assert_eq!(q(0, 5).inv(), None);
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+        #[test]
+        fn field_laws(a in small_rational(), b in small_rational(), c in small_rational()) {
+            prop_assert_eq!(&(&a + &b) + &c, &a + &(&b + &c));
+            prop_assert_eq!(&(&a * &b) * &c, &a * &(&b * &c));
+            prop_assert_eq!(&a + &b, &b + &a);
+            prop_assert_eq!(&a * &b, &b * &a);
+            prop_assert_eq!(&a * &(&b + &c), &(&a * &b) + &(&a * &c));
+            prop_assert!((&a - &a).is_zero());
+            match a.inv() {
+                Some(inv) => prop_assert!((&a * &inv).is_one()),
+                None => prop_assert!(a.is_zero()),
+            }
+        }
+    }
+}
