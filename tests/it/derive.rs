@@ -566,3 +566,62 @@ fn bad_orders_and_focus_exit_with_status_two() {
         assert!(!stderr.contains("panicked"), "{stderr}");
     }
 }
+
+// ---------------------------------------------------------------------------------------------
+// Snapshots of every example: report and JSON of `derive`, report and JSON of `levels`. These
+// are snapshots, not checks: their values come from the project itself.
+
+/// Derives the example `stem` at its own order (else 2, the command line's default) and
+/// snapshots the four outputs under `derive__{stem}_...`.
+fn check_example(stem: &str, text: &str) {
+    let (model, _) = cleave::load(text).expect("the example lowers");
+    let order = model.order().unwrap_or(2);
+    let derivation = derive(&model, &DeriveOptions { order }).expect("the example derives");
+    let name = format!("examples/{stem}.clv");
+    let spectrum = &derivation.spectrum;
+    let outputs = [
+        ("report", cleave::emit::report(&model, &derivation, &name, &Vec::new())),
+        ("json", cleave::emit::json(&model, &derivation)),
+        ("levels_report", cleave::emit::levels_report(&model, spectrum, &name)),
+        ("levels_json", cleave::emit::levels_json(&model, spectrum)),
+    ];
+    let _guard = crate::support::snapshot_settings().bind_to_scope();
+    for (kind, output) in outputs {
+        insta::assert_snapshot!(format!("{stem}_{kind}"), output);
+    }
+}
+
+#[test]
+fn example_axial_spin() {
+    check_example("axial_spin", include_str!("../../examples/axial_spin.clv"));
+}
+
+#[test]
+fn example_hubbard_dimer() {
+    check_example("hubbard_dimer", include_str!("../../examples/hubbard_dimer.clv"));
+}
+
+#[test]
+fn example_lambda_three_level() {
+    check_example("lambda_three_level", include_str!("../../examples/lambda_three_level.clv"));
+}
+
+#[test]
+fn example_quartic_oscillator() {
+    check_example("quartic_oscillator", include_str!("../../examples/quartic_oscillator.clv"));
+}
+
+#[test]
+fn example_qubit_resonator() {
+    check_example("qubit_resonator", include_str!("../../examples/qubit_resonator.clv"));
+}
+
+#[test]
+fn example_spin_one_axial() {
+    check_example("spin_one_axial", include_str!("../../examples/spin_one_axial.clv"));
+}
+
+#[test]
+fn example_spin_orbit_field() {
+    check_example("spin_orbit_field", include_str!("../../examples/spin_orbit_field.clv"));
+}

@@ -8,3 +8,4 @@ mod derive;
 mod fuzz;
 mod grammar;
 mod lower;
+mod properties;
