@@ -140,7 +140,7 @@ fn permutations(n: usize) -> Vec<Vec<usize>> {
 
 /// A random Hermitian model on `levels(A, B, C[, D])`: small integer H0 diagonal entries (so
 /// degeneracies are common) and a sparse V with entries among small rationals, `sqrt(2)`, `i`
-/// and the parameter `g`.
+/// and the parameter `g`; half of the models have no V inside the degenerate levels.
 fn model_text() -> impl Strategy<Value = String> {
     let entry = prop_oneof![
         4 => Just("0"),
@@ -156,8 +156,9 @@ fn model_text() -> impl Strategy<Value = String> {
         (
             proptest::collection::vec(0i32..=2, n),
             proptest::collection::vec(entry.clone(), n * (n + 1) / 2),
+            any::<bool>(),
         )
-            .prop_map(move |(h0, upper)| {
+            .prop_map(move |(h0, upper, clear_blocks)| {
                 let labels = &["A", "B", "C", "D"][..n];
                 let mut v = vec![vec![String::new(); n]; n];
                 let mut it = upper.into_iter();
@@ -165,6 +166,9 @@ fn model_text() -> impl Strategy<Value = String> {
                     for c in r..n {
                         let x = it.next().expect("n(n+1)/2 entries");
                         let x = if r == c && x == "i" { "-1" } else { x };
+                        // Without V inside the degenerate levels they split at second order
+                        // or later, which exercises the deeper stages of the reduction.
+                        let x = if clear_blocks && h0[r] == h0[c] { "0" } else { x };
                         v[r][c] = x.to_string();
                         v[c][r] = if x == "i" { "-i".to_string() } else { x.to_string() };
                     }
@@ -271,7 +275,7 @@ fn check_spectrum_identities(model: &Model, derivation: &Derivation, text: &str)
     true
 }
 
-/// Per model space: H_eff Hermitian, its trace the sum of the branches, and the Bloch and
+/// Per model space: `H_eff` Hermitian, its trace the sum of the branches, and the Bloch and
 /// Hermitian forms with the same traces of powers (so the same eigenvalue series).
 fn check_effective_hamiltonians(derivation: &Derivation, text: &str) {
     let len = derivation.order as usize + 1;
@@ -285,12 +289,12 @@ fn check_effective_hamiltonians(derivation: &Derivation, text: &str) {
         }
         let complete = space.branches.iter().all(|b| b.energy.len() == len);
         if complete {
-            for k in 0..len {
+            for (k, m) in heff.iter().enumerate() {
                 let mut sum = RatFunc::zero();
                 for b in &space.branches {
                     sum += &(b.energy[k].clone() * &RatFunc::from_i64(b.multiplicity as i64));
                 }
-                assert_eq!(heff[k].trace(), sum, "trace of H_eff^({k})\n{text}");
+                assert_eq!(m.trace(), sum, "trace of H_eff^({k})\n{text}");
             }
         }
         let hermitian = trace_power_sums(heff, d, len);
@@ -314,10 +318,11 @@ fn hermitian_eigenvalues(re: &DMatrix<f64>, im: &DMatrix<f64>) -> Vec<f64> {
     values.into_iter().step_by(2).collect()
 }
 
-/// The numeric check: at `g` = `g_value` the error of every branch against exact
-/// diagonalization falls at least like `lambda^(N+1)` (log-log slope above N + 1/2).
-fn check_error_scaling(model: &Model, derivation: &Derivation, g_value: f64, text: &str) {
-    let Some(branches) = all_branches(derivation) else { return };
+/// The numeric check: at `g = g_value` the error of every branch against exact diagonalization
+/// falls at least like `lambda^(N+1)`: the log-log slope over the two smallest `lambda` whose
+/// error is above the floating-point floor exceeds N + 1/2. Returns what went wrong.
+fn check_error_scaling(model: &Model, derivation: &Derivation, g_value: f64) -> Result<(), String> {
+    let Some(branches) = all_branches(derivation) else { return Ok(()) };
     let order = derivation.order as usize;
     let params = [g_value];
     let num = |x: &RatFunc| evaluate(x, &params).expect("no pole at a generic g");
@@ -330,9 +335,9 @@ fn check_error_scaling(model: &Model, derivation: &Derivation, g_value: f64, tex
     };
     let (h0_re, h0_im) = to_matrices(model.h0());
     let (v_re, v_im) = to_matrices(&model.perturbations()[0]);
-    let lambdas = [2e-2, 1e-2, 5e-3];
-    // errors[b][l]: the largest error of branch b's copies at lambda l.
-    let mut errors = vec![[0.0f64; 3]; branches.len()];
+    let lambdas = [1e-2, 5e-3, 2.5e-3, 1.25e-3];
+    // errors[b][l]: the largest error of branch b's copies at lambdas[l].
+    let mut errors = vec![[0.0f64; 4]; branches.len()];
     for (l, &lambda) in lambdas.iter().enumerate() {
         let exact = hermitian_eigenvalues(&(&h0_re + &v_re * lambda), &(&h0_im + &v_im * lambda));
         let mut approx: Vec<(f64, usize)> = Vec::new();
@@ -346,28 +351,25 @@ fn check_error_scaling(model: &Model, derivation: &Derivation, g_value: f64, tex
         }
     }
     for (b_idx, err) in errors.iter().enumerate() {
-        if err.iter().all(|&e| e > 1e-11) {
-            // Least-squares slope of log(error) against log(lambda).
-            let xs: Vec<f64> = lambdas.iter().map(|l: &f64| l.ln()).collect();
-            let ys: Vec<f64> = err.iter().map(|e| e.ln()).collect();
-            let (mx, my) = (xs.iter().sum::<f64>() / 3.0, ys.iter().sum::<f64>() / 3.0);
-            let sxy: f64 = xs.iter().zip(&ys).map(|(x, y)| (x - mx) * (y - my)).sum();
-            let sxx: f64 = xs.iter().map(|x| (x - mx) * (x - mx)).sum();
-            let slope = sxy / sxx;
-            assert!(
-                slope > order as f64 + 0.5,
-                "branch {b_idx}: error slope {slope:.2} < N + 1/2 = {} (errors {err:?}) at g = \
-                 {g_value}\n{text}",
-                order as f64 + 0.5
-            );
-        } else {
-            assert!(err[0] < 1e-6, "branch {b_idx}: error {err:?} at g = {g_value}\n{text}");
+        let valid: Vec<usize> = (0..lambdas.len()).filter(|&l| err[l] > 1e-13).collect();
+        if let [.., l1, l2] = valid[..] {
+            let slope = (err[l1] / err[l2]).ln() / (lambdas[l1] / lambdas[l2]).ln();
+            if slope < order as f64 + 0.5 {
+                return Err(format!(
+                    "branch {b_idx}: error slope {slope:.2} < N + 1/2 = {} (errors {err:?} at \
+                     lambda {lambdas:?}) at g = {g_value}",
+                    order as f64 + 0.5
+                ));
+            }
+        } else if err[0] > 1e-6 {
+            return Err(format!("branch {b_idx}: errors {err:?} at g = {g_value}"));
         }
     }
+    Ok(())
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(24))]
+    #![proptest_config(ProptestConfig::with_cases(32))]
 
     #[test]
     fn exact_self_checks_hold_on_random_models(text in model_text(), order in 2u32..=4) {
@@ -376,13 +378,21 @@ proptest! {
         check_spectrum_identities(&model, &derivation, &text);
     }
 
+
+    /// A coefficient of order N+1 that happens to nearly vanish at the chosen g delays the
+    /// asymptotic slope, so the check fails only when it fails at two independent values of g:
+    /// a wrong coefficient is a non-zero function of g and fails at both.
     #[test]
     fn error_falls_like_the_next_order(
         text in model_text(),
         order in 2u32..=4,
-        g_value in 0.5f64..2.0,
+        g_values in (0.5f64..2.0, 0.5f64..2.0),
     ) {
         let (model, derivation) = check_derive(&text, order);
-        check_error_scaling(&model, &derivation, g_value, &text);
+        let first = check_error_scaling(&model, &derivation, g_values.0);
+        let second = check_error_scaling(&model, &derivation, g_values.1);
+        if let (Err(a), Err(b)) = (first, second) {
+            panic!("{a}\n{b}\n{text}");
+        }
     }
 }
