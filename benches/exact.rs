@@ -1,1 +1,58 @@
-fn main() {}
+//! Micro benchmarks of exact arithmetic: add, multiply and invert for `Rational`, `Radical` and
+//! a three-parameter `RatFunc`. Each bench is kept short so it can run on a shared machine.
+
+use std::time::Duration;
+
+use cleave::exact::{Field, ParamId, Radical, RatFunc, Rational};
+use criterion::{black_box, criterion_main, Criterion};
+
+fn rational(n: i64, d: i64) -> Rational {
+    Rational::ratio(n, d).expect("non-zero denominator")
+}
+
+fn radical_sample() -> (Radical, Radical) {
+    let root = |n: i64| Radical::sqrt_of(&Rational::from_i64(n));
+    // 2 + 3*sqrt(2) - sqrt(6) and 1/2 - sqrt(3) + i.
+    let a = Radical::from_i64(2) + root(2).scale(&Rational::from_i64(3)) - root(6);
+    let b = Radical::from_rational(&rational(1, 2)) - root(3) + Radical::i();
+    (a, b)
+}
+
+fn ratfunc_sample() -> (RatFunc, RatFunc) {
+    let g = RatFunc::param(ParamId(0));
+    let w = RatFunc::param(ParamId(1));
+    let delta = RatFunc::param(ParamId(2));
+    let two = RatFunc::from_i64(2);
+    // (g^2 + w*delta)/(2w - delta) and g/(w + delta): the shape of second-order energy terms.
+    let a = (&g * &g + &w * &delta) * (&two * &w - &delta).inv().expect("non-zero");
+    let b = &g * &(&w + &delta).inv().expect("non-zero");
+    (a, b)
+}
+
+fn bench_field<F: Field>(c: &mut Criterion, name: &str, a: &F, b: &F) {
+    let mut group = c.benchmark_group(name);
+    group
+        .sample_size(20)
+        .measurement_time(Duration::from_secs(1))
+        .warm_up_time(Duration::from_millis(300));
+    group.bench_function("add", |bench| bench.iter(|| black_box(a).clone() + black_box(b)));
+    group.bench_function("mul", |bench| bench.iter(|| black_box(a).clone() * black_box(b)));
+    group.bench_function("inv", |bench| bench.iter(|| black_box(a).inv()));
+    group.finish();
+}
+
+fn exact(c: &mut Criterion) {
+    bench_field(c, "rational", &rational(-21, 8), &rational(5, 12));
+    let (a, b) = radical_sample();
+    bench_field(c, "radical", &a, &b);
+    let (a, b) = ratfunc_sample();
+    bench_field(c, "ratfunc", &a, &b);
+}
+
+/// The benchmark group, in a private module because `criterion_group!` generates a function
+/// without docs.
+mod group {
+    criterion::criterion_group!(benches, super::exact);
+}
+
+criterion_main!(group::benches);

@@ -62,6 +62,9 @@ struct DeriveArgs {
     /// The order in lambda (default: the model's `order`, else 2).
     #[arg(long, value_name = "N")]
     order: Option<u32>,
+    /// Report state corrections through order K (default: the smaller of N and 4).
+    #[arg(long, value_name = "K")]
+    states: Option<u32>,
     /// Write JSON to PATH (`-` for stdout).
     #[arg(long, value_name = "PATH")]
     json: Option<PathBuf>,
@@ -202,7 +205,7 @@ fn levels(args: LevelsArgs) -> Result<(), Failure> {
 fn derive(args: DeriveArgs) -> Result<(), Failure> {
     let loaded = load(&args.model)?;
     let at = parse_at(&args.at, &loaded.model)?;
-    let options = DeriveOptions { order: order(args.order, &loaded.model) };
+    let options = DeriveOptions { order: order(args.order, &loaded.model), states: args.states };
     let derivation =
         engine::derive(&loaded.model, &options).map_err(|err| loaded.engine_failure(err))?;
     let model = &loaded.model;
@@ -224,7 +227,7 @@ fn derive(args: DeriveArgs) -> Result<(), Failure> {
 fn check_command(args: CheckArgs) -> Result<(), Failure> {
     let loaded = load(&args.model)?;
     let at = parse_at(&args.at, &loaded.model)?;
-    let options = DeriveOptions { order: order(args.order, &loaded.model) };
+    let options = DeriveOptions::new(order(args.order, &loaded.model));
     let derivation =
         engine::derive(&loaded.model, &options).map_err(|err| loaded.engine_failure(err))?;
     let verification = check::verify(&loaded.model, &derivation, &CheckOptions { at });

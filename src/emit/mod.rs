@@ -1,10 +1,14 @@
 //! Output formats, each a pure function of a computed result: report, JSON, LaTeX, Rust.
-//! Start from [`report`] and [`json`]. Emitters never recompute anything; they know nothing of
+//! Start from [`report()`] and [`json()`]; [`latex()`] and [`rust()`] write a paper's tables and code
+//! to embed. Emitters never recompute anything; they know nothing of
 //! parsing, files or engine internals.
 
 mod check;
 mod json;
+mod latex;
 mod report;
+mod rust;
+mod terms;
 mod text;
 
 pub use check::{check_plot, check_report};
@@ -27,14 +31,14 @@ pub struct LatexOptions {
     pub at: ParamValues,
 }
 
-/// The LaTeX of `cleave derive --latex`.
+/// The LaTeX of `cleave derive --latex`: a fragment to `\input` (needing the packages amsmath
+/// and booktabs), or with `options.standalone` a complete document.
 pub fn latex(model: &Model, derivation: &Derivation, name: &str, options: &LatexOptions) -> String {
-    let _ = (model, derivation, name, options);
-    unimplemented!()
+    latex::latex(model, derivation, name, options)
 }
 
-/// The Rust module of `cleave derive --rust`.
+/// The Rust module of `cleave derive --rust`: std-only code with a function per branch and per
+/// effective Hamiltonian, and the table-driven `energy(index, lambda, params)`.
 pub fn rust(model: &Model, derivation: &Derivation, name: &str) -> String {
-    let _ = (model, derivation, name);
-    unimplemented!()
+    rust::rust(model, derivation, name)
 }

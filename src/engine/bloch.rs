@@ -103,15 +103,15 @@ pub(crate) fn wave_operator<F: Field>(
         // - sum_j Omega_j W_{m-j}.
         for j in 1..m {
             let w_prev = &bloch[m - j];
-            for a in 0..d {
-                for b in 0..d {
+            for (a, rhs_a) in rhs.iter_mut().enumerate() {
+                for (b, column) in omega[j].iter().enumerate() {
                     let coeff = w_prev.get(b, a);
                     if coeff.is_zero() {
                         continue;
                     }
                     let neg = -coeff.clone();
-                    for (i, v) in omega[j][b].entries() {
-                        rhs[a].push((*i, neg.mul_ref(v)));
+                    for (i, v) in column.entries() {
+                        rhs_a.push((*i, neg.mul_ref(v)));
                     }
                 }
             }
@@ -179,9 +179,9 @@ fn hermitian_form<F: Field>(
     let mut t = vec![DenseMatrix::zeros(d, d); order + 1];
     for (m, t_m) in t.iter_mut().enumerate().skip(2) {
         for j in 1..m {
-            for a in 0..d {
-                for b in 0..d {
-                    let v = weighted[j][a].dot(&omega[m - j][b]);
+            for (a, left) in weighted[j].iter().enumerate() {
+                for (b, right) in omega[m - j].iter().enumerate() {
+                    let v = left.dot(right);
                     if !v.is_zero() {
                         *t_m.get_mut(a, b) += &v;
                     }

@@ -1,6 +1,6 @@
 //! The expansion engine: effective Hamiltonians, branches and states, order by order.
 //!
-//! Start from [`derive`], which turns a [`Model`] into one [`Derivation`] that every output reads.
+//! Start from [`derive()`], which turns a [`Model`] into one [`Derivation`] that every output reads.
 //! The engine knows no output format.
 //!
 //! # How a derivation runs
@@ -38,6 +38,19 @@ pub const MAX_ORDER: u32 = 1000;
 pub struct DeriveOptions {
     /// The order N in lambda.
     pub order: u32,
+    /// The highest order of state corrections to report; `None` means `min(N, 4)`.
+    pub states: Option<u32>,
+}
+
+impl DeriveOptions {
+    /// Energies and effective Hamiltonians to `order`, states to the default order.
+    pub fn new(order: u32) -> DeriveOptions {
+        DeriveOptions { order, states: None }
+    }
+    /// The order of state corrections reported.
+    pub fn states_to(&self) -> u32 {
+        self.states.unwrap_or(self.order.min(4)).min(self.order)
+    }
 }
 
 /// Everything derived for one model, to one order; every output reads this value.
@@ -96,7 +109,8 @@ pub struct Branch {
 }
 
 /// The eigenvector series of a branch in the product basis, in intermediate normalization:
-/// `<psi0|psi(lambda)> = <psi0|psi0>`, i.e. no correction has a component along `psi0`.
+/// `<psi0|psi(lambda)> = <psi0|psi0>`, i.e. no correction has a component along `psi0`;
+/// `psi0` is normalized whenever the square root of its norm is exact.
 #[derive(Clone, Debug)]
 pub struct StateSeries {
     /// `psi^(k)` for `k = 0..=determined_to`, as product-basis vectors; `psi^(0)` is not normalized.
@@ -226,6 +240,7 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
             )));
         }
         model_spaces.push(solve_model_space(
+            options.states_to() as usize,
             model,
             &spectrum,
             &working,
@@ -379,11 +394,17 @@ struct Solved {
     secular: Vec<RawSecular>,
 }
 
-fn to_solved<F: Scalar>(raw: RawSpace<F>, scale: Option<&[Radical]>) -> Solved {
+/// `scale_squares[i]` is `(d_i / d_p)^2` for a problem rescaled by `rationalize`; coordinates are
+/// multiplied back by `d_i / d_p`.
+fn to_solved<F: Scalar>(
+    raw: RawSpace<F>,
+    scale_squares: Option<&[Rational]>,
+    states_to: usize,
+) -> Solved {
     let conv_vec = |v: &SparseVec<F>| -> SparseVec<RatFunc> {
-        match scale {
+        match scale_squares {
             None => v.map(|_, x| x.to_ratfunc()),
-            Some(s) => v.map(|i, x| x.to_ratfunc() * RatFunc::constant(s[i].clone())),
+            Some(s) => v.map(|i, x| x.to_ratfunc() * RatFunc::constant(Radical::sqrt_of(&s[i]))),
         }
     };
     let omega_support = raw
@@ -411,84 +432,93 @@ fn to_solved<F: Scalar>(raw: RawSpace<F>, scale: Option<&[Radical]>) -> Solved {
         vectors: raw
             .vectors
             .iter()
-            .map(|v| v.as_ref().map(|s| s.iter().map(conv_vec).collect()))
+            .map(|v| v.as_ref().map(|s| s.iter().take(states_to + 1).map(conv_vec).collect()))
             .collect(),
         secular: raw.secular,
     }
 }
 
 /// Solves one model space in the smallest field that works.
-fn solve_fields(working: &Working, indices: &[usize], order: usize) -> Solved {
+fn solve_fields(working: &Working, indices: &[usize], order: usize, states_to: usize) -> Solved {
     let problem = &working.problem;
     if let Some(radical) = try_convert::<Radical>(problem) {
         if indices.len() == 1 {
-            if let Some((rational, scale)) = rationalize(&radical) {
+            if let Some((rational, squares)) = rationalize(&radical) {
                 if let Ok(raw) = solve_one_state(&rational, indices[0], order) {
-                    let anchor = scale[indices[0]].inv().expect("non-zero scale");
-                    let rel: Vec<Radical> = scale.iter().map(|s| s.clone() * &anchor).collect();
-                    return to_solved(raw, Some(&rel));
+                    let anchor = squares[indices[0]].inv().expect("non-zero scale");
+                    let rel: Vec<Rational> = squares.iter().map(|s| s.clone() * &anchor).collect();
+                    return to_solved(raw, Some(&rel), states_to);
                 }
             }
         }
         if let Ok(raw) = solve_in(&radical, indices, order) {
-            return to_solved(raw, None);
+            return to_solved(raw, None, states_to);
         }
     }
     let raw = solve_in(problem, indices, order).expect("rational functions hold every value");
-    to_solved(raw, None)
+    to_solved(raw, None, states_to)
 }
 
 /// A diagonal similarity `A'_k = D^{-1} A_k D` that makes every coupling rational, found by
 /// walking the coupling graph from each component's first state (ENGINE.md §8: it leaves every
-/// branch unchanged). `None` when some coupling is not a single radical or a cycle disagrees.
-fn rationalize(problem: &Problem<Radical>) -> Option<(Problem<Rational>, Vec<Radical>)> {
+/// branch unchanged). `D = diag(sqrt(r_i))` with rational `r_i > 0`, returned as the `r_i`; a
+/// coupling `c*sqrt(s)` from `i` to `j` becomes `c*sqrt(s r_j / r_i)`, which must be rational.
+/// `None` when a coupling is not a single real radical or a cycle disagrees.
+fn rationalize(problem: &Problem<Radical>) -> Option<(Problem<Rational>, Vec<Rational>)> {
     let n = problem.energies.len();
-    let mut scale: Vec<Option<Radical>> = vec![None; n];
-    let mut neighbors: Vec<Vec<(usize, Radical)>> = vec![Vec::new(); n];
+    let mut squares: Vec<Option<Rational>> = vec![None; n];
+    let mut neighbors: Vec<Vec<(usize, i64)>> = vec![Vec::new(); n];
+    let single = |v: &Radical| -> Option<(i64, Rational)> {
+        match v.terms() {
+            [(s, c)] if *s > 0 => Some((*s, c.clone())),
+            _ => None,
+        }
+    };
     for term in &problem.terms {
         for (i, j, v) in term.triplets() {
+            let (s, _) = single(v)?;
             if i != j {
-                neighbors[i].push((j, v.clone()));
+                neighbors[i].push((j, s));
             }
         }
     }
     for root in 0..n {
-        if scale[root].is_some() {
+        if squares[root].is_some() {
             continue;
         }
-        scale[root] = Some(Radical::one());
+        squares[root] = Some(Rational::one());
         let mut stack = vec![root];
         while let Some(i) = stack.pop() {
-            let d_i = scale[i].clone().expect("visited");
-            for (j, v) in &neighbors[i] {
-                if scale[*j].is_none() {
-                    // d_j = d_i / v up to a rational, so that v d_j / d_i is rational.
-                    let [(s, _)] = v.terms() else { return None };
-                    let root_s = Radical::sqrt_of(&Rational::from_i64(*s));
-                    scale[*j] = Some(d_i.clone() * root_s.inv()?);
+            let r_i = squares[i].clone().expect("visited");
+            for (j, s) in &neighbors[i] {
+                if squares[*j].is_none() {
+                    // d_j = d_i / sqrt(s) makes this coupling rational.
+                    squares[*j] = Some(r_i.clone() * Rational::from_i64(*s).inv()?);
                     stack.push(*j);
                 }
             }
         }
     }
-    let scale: Vec<Radical> = scale.into_iter().collect::<Option<_>>()?;
-    let inv: Vec<Radical> = scale.iter().map(|s| s.inv()).collect::<Option<_>>()?;
+    let squares: Vec<Rational> = squares.into_iter().collect::<Option<_>>()?;
     let mut terms = Vec::new();
     for term in &problem.terms {
         let mut triplets = Vec::new();
         for (i, j, v) in term.triplets() {
-            let x = (inv[i].clone() * v * &scale[j]).as_rational()?;
-            triplets.push((i, j, x));
+            let (s, c) = single(v)?;
+            let ratio = Rational::from_i64(s) * &squares[j] * squares[i].inv()?;
+            triplets.push((i, j, c * ratio.sqrt()?));
         }
         terms.push(SparseMatrix::from_triplets(n, n, triplets));
     }
     let energies = problem.energies.iter().map(Radical::as_rational).collect::<Option<_>>()?;
     // The metric only enters the Hermitian form, which one-state model spaces skip.
     let metric = (0..n).map(|_| Rational::one()).collect();
-    Some((Problem { energies, metric, terms }, scale))
+    Some((Problem { energies, metric, terms }, squares))
 }
 
+#[allow(clippy::too_many_arguments)]
 fn solve_model_space(
+    states_to: usize,
     model: &Model,
     spectrum: &Spectrum,
     working: &Working,
@@ -496,7 +526,7 @@ fn solve_model_space(
     indices: &[usize],
     order: usize,
 ) -> ModelSpace {
-    let solved = solve_fields(working, indices, order);
+    let solved = solve_fields(working, indices, order, states_to);
     let n_basis = indices.len();
     // Model-space basis in the product basis, normalized where exact.
     let basis_norms: Vec<RatFunc> =
@@ -553,7 +583,7 @@ fn solve_model_space(
         .map(|(b, vec)| {
             let state = vec.as_ref().map(|series| {
                 let product: Vec<SparseVec<RatFunc>> = series.iter().map(to_product).collect();
-                intermediate_normalization(product, order - b.isolated_at)
+                intermediate_normalization(product, (order - b.isolated_at).min(states_to))
             });
             Branch {
                 energy: b.energy.clone(),
@@ -608,6 +638,10 @@ fn intermediate_normalization(series: Vec<SparseVec<RatFunc>>, keep: usize) -> S
             }
         }
         res.push(acc);
+    }
+    // Unit <psi0|psi0> where its square root is exact, so psi^(0) reads as a normalized state.
+    if let Some(inv_root) = norm.sqrt().and_then(|r| r.inv()) {
+        res = res.iter().map(|v| v.scale(&inv_root)).collect();
     }
     StateSeries { coefficients: res, determined_to: keep as u32 }
 }

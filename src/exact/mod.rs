@@ -8,6 +8,7 @@ mod poly;
 mod radical;
 mod ratfunc;
 mod rational;
+pub mod roots;
 pub mod univariate;
 
 use std::fmt::Debug;

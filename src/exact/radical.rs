@@ -150,7 +150,7 @@ impl Radical {
     /// `a/(b s2) * sqrt(s1 s2)`; `s1 s2` is square-free because `p` and `q` are coprime.
     ///
     /// # Panics
-    /// When the square-free part of `p*q` does not fit in an `i64` (see [`split_square`]).
+    /// When the square-free part of `p*q` does not fit in an `i64`.
     pub fn sqrt_of(value: &Rational) -> Radical {
         if value.is_zero() {
             return Radical::zero();

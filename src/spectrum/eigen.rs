@@ -10,9 +10,8 @@
 use std::collections::BTreeMap;
 
 use num_bigint::BigInt;
-use num_integer::Integer;
-use num_traits::Signed;
 
+use crate::exact::univariate::UniPoly;
 use crate::exact::{Field, Monomial, Poly, Radical, RatFunc, Rational, SquareRoot};
 use crate::linalg::DenseMatrix;
 
@@ -262,19 +261,12 @@ fn row_echelon_basis(rows: Vec<Vec<Radical>>) -> (Vec<Vec<Radical>>, Vec<usize>)
     ((0..pivots.len()).map(|r| m.row(r).to_vec()).collect(), pivots)
 }
 
-/// A polynomial as a rational function.
-pub fn poly_to_ratfunc(p: &Poly) -> RatFunc {
-    let mut acc = RatFunc::zero();
-    for (m, c) in p.terms() {
-        acc += &(RatFunc::constant(c.clone()) * monomial_to_ratfunc(m));
-    }
-    acc
+fn poly_to_ratfunc(p: &Poly) -> RatFunc {
+    RatFunc::from_poly(p.clone())
 }
 
 fn monomial_to_ratfunc(m: &Monomial) -> RatFunc {
-    m.factors().iter().fold(RatFunc::one(), |acc, (p, e)| {
-        acc * RatFunc::param(*p).pow(*e as i32).expect("positive power")
-    })
+    RatFunc::from_poly(Poly::term(m.clone(), Radical::one()))
 }
 
 /// Joint eigenspaces of commuting numeric parts: refine the whole space part by part.
@@ -341,9 +333,9 @@ fn restrict(m: &DenseMatrix<Radical>, basis: &[Vec<Radical>]) -> Option<DenseMat
         return None;
     }
     let mut res = DenseMatrix::zeros(k, k);
-    for r in 0..k {
+    for (r, row) in reduced.iter().take(k).enumerate() {
         for j in 0..k {
-            res.set(r, j, reduced[r][k + j].clone());
+            res.set(r, j, row[k + j].clone());
         }
     }
     Some(res)
@@ -388,13 +380,20 @@ pub fn numeric_eigenspaces(m: &DenseMatrix<Radical>) -> Option<Vec<(Radical, Vec
 /// field: rational roots of a rational polynomial, then the quadratic formula for what is left.
 fn polynomial_roots(coeffs: &[Radical]) -> Option<Vec<Radical>> {
     if let Some(rational) = coeffs.iter().map(Radical::as_rational).collect::<Option<Vec<_>>>() {
-        let (mut roots, rest) = rational_roots(&rational);
-        let mut res: Vec<Radical> = roots.drain(..).map(|r| Radical::from_rational(&r)).collect();
-        match rest.len() {
-            0 | 1 => {}
-            3 => {
-                let rest: Vec<Radical> = rest.iter().map(Radical::from_rational).collect();
-                res.extend(quadratic_roots(&rest[0], &rest[1], &rest[2])?);
+        let poly = UniPoly::new(rational);
+        let mut rest = poly.square_free_part();
+        let mut res = Vec::new();
+        for (root, _) in poly.rational_roots() {
+            rest = rest
+                .deflate(&root)
+                .expect("a root of the polynomial is one of its square-free part");
+            res.push(Radical::from_rational(&root));
+        }
+        match rest.coeffs() {
+            [_] => {}
+            [c0, c1, c2] => {
+                let [c0, c1, c2] = [c0, c1, c2].map(Radical::from_rational);
+                res.extend(quadratic_roots(&c0, &c1, &c2)?);
             }
             _ => return None,
         }
@@ -414,146 +413,6 @@ fn quadratic_roots<F: SquareRoot>(c0: &F, c1: &F, c2: &F) -> Option<Vec<F>> {
     let a = (-c1.clone() - &root) * &denom;
     let b = (-c1.clone() + &root) * &denom;
     Some(if root.is_zero() { vec![a] } else { vec![a, b] })
-}
-
-/// The distinct rational roots of a rational polynomial and the square-free cofactor left when they
-/// are divided out (rational-root theorem on the square-free part with integer coefficients).
-fn rational_roots(coeffs: &[Rational]) -> (Vec<Rational>, Vec<Rational>) {
-    let mut p = square_free(coeffs);
-    let mut roots = Vec::new();
-    // Factor out x.
-    if p.len() > 1 && p[0].is_zero() {
-        roots.push(Rational::zero());
-        p.remove(0);
-    }
-    loop {
-        if p.len() <= 1 {
-            break;
-        }
-        let ints = integer_coefficients(&p);
-        let (a0, an) = (ints[0].abs(), ints[ints.len() - 1].abs());
-        let (Some(ps), Some(qs)) = (divisors(&a0), divisors(&an)) else { break };
-        let mut found = None;
-        'search: for q in &qs {
-            for pp in &ps {
-                for sign in [1, -1] {
-                    let cand = Rational::new(BigInt::from(sign) * pp, q.clone()).expect("q > 0");
-                    if evaluate(&p, &cand).is_zero() {
-                        found = Some(cand);
-                        break 'search;
-                    }
-                }
-            }
-        }
-        match found {
-            Some(root) => {
-                p = deflate(&p, &root);
-                roots.push(root);
-            }
-            None => break,
-        }
-    }
-    (roots, p)
-}
-
-fn evaluate(p: &[Rational], x: &Rational) -> Rational {
-    p.iter().rev().fold(Rational::zero(), |acc, c| acc * x + c)
-}
-
-/// Synthetic division by `x - root` (exact when `root` is a root).
-fn deflate(p: &[Rational], root: &Rational) -> Vec<Rational> {
-    let n = p.len() - 1;
-    let mut res = vec![Rational::zero(); n];
-    let mut carry = Rational::zero();
-    for k in (0..n).rev() {
-        carry = carry * root + &p[k + 1];
-        res[k] = carry.clone();
-    }
-    res
-}
-
-fn integer_coefficients(p: &[Rational]) -> Vec<BigInt> {
-    let lcm = p.iter().fold(BigInt::from(1), |acc, c| acc.lcm(c.denom()));
-    p.iter().map(|c| c.numer() * (&lcm / c.denom())).collect()
-}
-
-/// The positive divisors of `n` by trial division, `None` when `n` is too large to factor here.
-fn divisors(n: &BigInt) -> Option<Vec<BigInt>> {
-    use num_traits::ToPrimitive;
-    let n = n.to_u64().filter(|&n| n > 0 && n < 1 << 40)?;
-    let mut small = Vec::new();
-    let mut large = Vec::new();
-    let mut d = 1u64;
-    while d * d <= n {
-        if n % d == 0 {
-            small.push(BigInt::from(d));
-            if d * d != n {
-                large.push(BigInt::from(n / d));
-            }
-        }
-        d += 1;
-        if d > 2_000_000 {
-            return None;
-        }
-    }
-    small.extend(large.into_iter().rev());
-    Some(small)
-}
-
-/// `p / gcd(p, p')`, monic.
-fn square_free(p: &[Rational]) -> Vec<Rational> {
-    let deriv: Vec<Rational> = p
-        .iter()
-        .enumerate()
-        .skip(1)
-        .map(|(k, c)| c.clone() * Rational::from_i64(k as i64))
-        .collect();
-    let g = poly_gcd(p.to_vec(), deriv);
-    let (q, _) = poly_divrem(p, &g);
-    let lead = q.last().cloned().unwrap_or_else(Rational::one);
-    let inv = lead.inv().unwrap_or_else(Rational::one);
-    q.into_iter().map(|c| c * &inv).collect()
-}
-
-fn trim(mut p: Vec<Rational>) -> Vec<Rational> {
-    while p.last().is_some_and(Rational::is_zero) {
-        p.pop();
-    }
-    p
-}
-
-fn poly_divrem(a: &[Rational], b: &[Rational]) -> (Vec<Rational>, Vec<Rational>) {
-    let b = trim(b.to_vec());
-    let mut r = trim(a.to_vec());
-    if b.is_empty() || r.len() < b.len() {
-        return (vec![], r);
-    }
-    let mut q = vec![Rational::zero(); r.len() - b.len() + 1];
-    let lead_inv = b.last().expect("non-empty").inv().expect("non-zero lead");
-    while r.len() >= b.len() && !r.is_empty() {
-        let shift = r.len() - b.len();
-        let factor = r.last().expect("non-empty").clone() * &lead_inv;
-        for (k, c) in b.iter().enumerate() {
-            r[shift + k] -= &(factor.clone() * c);
-        }
-        q[shift] = factor;
-        r = trim(r);
-    }
-    (q, r)
-}
-
-fn poly_gcd(a: Vec<Rational>, b: Vec<Rational>) -> Vec<Rational> {
-    let (mut a, mut b) = (trim(a), trim(b));
-    while !b.is_empty() {
-        let (_, r) = poly_divrem(&a, &b);
-        a = b;
-        b = r;
-    }
-    if a.is_empty() {
-        return vec![Rational::one()];
-    }
-    let inv = a.last().expect("non-empty").inv().expect("non-zero");
-    a.into_iter().map(|c| c * &inv).collect()
 }
 
 /// A 2×2 (or diagonalizable) symbolic matrix whose characteristic polynomial is a quadratic with a
@@ -580,15 +439,23 @@ fn quadratic_eigenspaces(a: &DenseMatrix<RatFunc>) -> Option<Vec<(RatFunc, Vec<V
 mod tests {
     use super::*;
 
-    fn q(n: i64) -> Rational {
-        Rational::from_i64(n)
+    fn q(n: i64) -> Radical {
+        Radical::from_rational(&Rational::from_i64(n))
     }
 
     #[test]
-    fn rational_roots_of_cubic() {
-        // (x - 1)(x + 2)(2x - 1) = 2x^3 + x^2 - 5x + 2.
-        let (roots, rest) = rational_roots(&[q(2), q(-5), q(1), q(2)]);
+    fn roots_of_a_cubic_with_an_irrational_pair() {
+        // (x - 1)(x^2 - 2) = x^3 - x^2 - 2x + 2: roots 1 and ±sqrt(2).
+        let roots = polynomial_roots(&[q(2), q(-2), q(-1), q(1)]).expect("splits");
         assert_eq!(roots.len(), 3);
-        assert_eq!(rest.len(), 1);
+        assert!(roots.contains(&Radical::sqrt_of(&Rational::from_i64(2))));
+    }
+
+    #[test]
+    fn exact_sign_of_a_sum_of_roots() {
+        // sqrt(2) + sqrt(3) - sqrt(10) = 3.146... - 3.162... < 0.
+        let x = Radical::sqrt_of(&Rational::from_i64(2)) + Radical::sqrt_of(&Rational::from_i64(3))
+            - Radical::sqrt_of(&Rational::from_i64(10));
+        assert_eq!(real_sign(&x), -1);
     }
 }

@@ -1,0 +1,1024 @@
+//! The LaTeX of `cleave derive --latex`: per model space a booktabs table of branches, the
+//! effective Hamiltonian by order, the secular polynomials and each branch's series.
+//! Start from [`latex`]. Values are typeset from their structure (`terms::fraction`), never from
+//! their text form; only the packages amsmath and booktabs are needed.
+
+use std::fmt::Write;
+
+use super::terms::{self, Atom, Fraction};
+use super::{report, LatexOptions};
+use crate::check;
+use crate::engine::{Branch, Derivation, ModelSpace, Note, SecularEquation};
+use crate::exact::{Field, RatFunc};
+use crate::linalg::SparseVec;
+use crate::model::{Basis, Model, SpaceKind};
+
+/// Width, in rough character units, of a displayed line before it breaks; about the text width
+/// of an article page at 10pt, with room for an equation number.
+const LINE_BUDGET: usize = 56;
+/// Width of a table (in `\small`) before it is transposed or split.
+const TABLE_BUDGET: usize = 72;
+/// Width of a table cell beyond which the value moves out of the table into the series.
+const CELL_LIMIT: usize = 28;
+/// Width of a fraction that is still set whole inside a series rather than as `1/D (...)`.
+const FRACTION_LIMIT: usize = 24;
+
+/// Greek letters that LaTeX names by a lowercase macro.
+const GREEK: [&str; 26] = [
+    "alpha",
+    "beta",
+    "gamma",
+    "delta",
+    "epsilon",
+    "varepsilon",
+    "zeta",
+    "eta",
+    "theta",
+    "vartheta",
+    "iota",
+    "kappa",
+    "lambda",
+    "mu",
+    "nu",
+    "xi",
+    "pi",
+    "rho",
+    "sigma",
+    "tau",
+    "upsilon",
+    "phi",
+    "varphi",
+    "chi",
+    "psi",
+    "omega",
+];
+/// Capital Greek letters that LaTeX has macros for (the others look like Latin capitals).
+const GREEK_CAPITAL: [&str; 11] =
+    ["Gamma", "Delta", "Theta", "Lambda", "Xi", "Pi", "Sigma", "Upsilon", "Phi", "Psi", "Omega"];
+
+/// A piece of math with an estimate of its printed width.
+#[derive(Clone, Debug, Default)]
+struct Tex {
+    text: String,
+    width: usize,
+}
+
+impl Tex {
+    fn new(text: impl Into<String>, width: usize) -> Tex {
+        Tex { text: text.into(), width }
+    }
+
+    fn push(&mut self, other: &Tex) {
+        self.text.push_str(&other.text);
+        self.width += other.width;
+    }
+
+    fn push_str(&mut self, text: &str, width: usize) {
+        self.text.push_str(text);
+        self.width += width;
+    }
+}
+
+/// The LaTeX of `cleave derive --latex`: a fragment to `\input`, or with `options.standalone` a
+/// complete document.
+pub(crate) fn latex(
+    model: &Model,
+    derivation: &Derivation,
+    name: &str,
+    options: &LatexOptions,
+) -> String {
+    let names = &derivation.parameters;
+    let mut out = String::new();
+    if options.standalone {
+        out.push_str("\\documentclass{article}\n\\usepackage{amsmath}\n\\usepackage{booktabs}\n");
+        out.push_str("\\begin{document}\n");
+        let _ = writeln!(
+            out,
+            "\\section*{{Perturbation series of \\texttt{{{}}}}}",
+            file_name(short_name(name))
+        );
+    } else {
+        let _ = writeln!(
+            out,
+            "% Perturbation series of {}, written by cleave.",
+            name.replace(['\n', '\r'], " ")
+        );
+        out.push_str("% Needs \\usepackage{amsmath} and \\usepackage{booktabs}.\n");
+    }
+    out.push_str(&introduction(model, derivation, name, options));
+    for (idx, space) in derivation.model_spaces.iter().enumerate() {
+        let context = SpaceContext {
+            model,
+            space,
+            number: idx + 1,
+            names,
+            order: derivation.order,
+            name,
+            options,
+        };
+        out.push('\n');
+        model_space(&mut out, &context);
+    }
+    if options.standalone {
+        out.push_str("\\end{document}\n");
+    }
+    out
+}
+
+/// The convention sentence that opens the output.
+fn introduction(
+    model: &Model,
+    derivation: &Derivation,
+    name: &str,
+    options: &LatexOptions,
+) -> String {
+    let names = &derivation.parameters;
+    let mut out = String::new();
+    let _ = write!(
+        out,
+        "{{\\sloppy Exact perturbation series of \\texttt{{{}}} to order $N = {}$ for $H(\\lambda) = H_0 + \\lambda V{}$. \
+         Branch energies are $E(\\lambda) = \\sum_{{k=0}}^{{N}} \\lambda^k E^{{(k)}}$; tables and matrices give \
+         the coefficients of $\\lambda^k$.",
+        file_name(name),
+        derivation.order,
+        if model.perturbations().len() > 1 { " + \\lambda^2 V_2 + \\dots" } else { "" }
+    );
+    if !names.is_empty() {
+        let symbols: Vec<String> = names.iter().map(|n| format!("${}$", symbol(n).text)).collect();
+        let _ = write!(out, " Parameters: {}.", symbols.join(", "));
+    }
+    if !options.at.is_empty() {
+        let _ = write!(out, " Numeric values are given at {}.", at_text(&options.at, names));
+    }
+    out.push_str(
+        " The series are truncated at order $N$; for many models they are asymptotic rather than \
+         convergent, so use them only where their terms still decrease.\\par}\n",
+    );
+    out
+}
+
+/// `$g = \frac{1}{10}$, $t = 2$` for the `--at` values.
+fn at_text(at: &super::ParamValues, names: &[String]) -> String {
+    let values: Vec<String> = at
+        .iter()
+        .map(|(n, v)| {
+            let value = RatFunc::from_rational(v);
+            format!("${} = {}$", symbol(n).text, inline_value(&terms::fraction(&value), names).text)
+        })
+        .collect();
+    values.join(", ")
+}
+
+/// Everything the parts of one model space's output read.
+struct SpaceContext<'a> {
+    model: &'a Model,
+    space: &'a ModelSpace,
+    number: usize,
+    names: &'a [String],
+    order: u32,
+    name: &'a str,
+    options: &'a LatexOptions,
+}
+
+fn model_space(out: &mut String, ctx: &SpaceContext<'_>) {
+    let space = ctx.space;
+    let basis = ctx.model.basis();
+    let d = space.basis.len();
+    let energies: Vec<String> =
+        space.unperturbed.iter().map(|e| scalar(e, ctx.names).text).collect();
+    let _ = writeln!(out, "\\paragraph{{Model space {}.}}", ctx.number);
+    let _ = write!(
+        out,
+        "Unperturbed energ{} $E_0 = {}$; {d} state{}{}. Basis: ",
+        if energies.len() > 1 { "ies" } else { "y" },
+        energies.join(",\\ "),
+        if d == 1 { "" } else { "s" },
+        if space.unperturbed.len() > 1 { ", quasi-degenerate" } else { "" }
+    );
+    let kets: Vec<String> = space
+        .basis
+        .iter()
+        .enumerate()
+        .map(|(a, v)| {
+            let state = state(v, basis, ctx.names).text;
+            if d == 1 {
+                format!("${state}$")
+            } else {
+                format!("$e_{{{}}} = {state}$", a + 1)
+            }
+        })
+        .collect();
+    let _ = write!(out, "{}.", kets.join(", "));
+    if !space.normalized {
+        let norms: Vec<String> =
+            space.basis_norms.iter().map(|g| format!("${}$", scalar(g, ctx.names).text)).collect();
+        let _ = write!(
+            out,
+            " These states are not normalized (squared norms {}); the matrices below are written \
+             in this basis.",
+            norms.join(", ")
+        );
+    }
+    out.push('\n');
+    branch_table(out, ctx);
+    if d > 1 {
+        effective_hamiltonian(out, ctx);
+    }
+    for secular in &space.secular {
+        secular_equation(out, secular, ctx.names);
+    }
+    out.push_str("\nThe branch series:\n");
+    for (b, branch) in space.branches.iter().enumerate() {
+        branch_series(out, b + 1, branch, ctx);
+    }
+    for note in &space.notes {
+        let _ = writeln!(out, "\n\\noindent\\emph{{Note.}} {}", note_latex(note));
+    }
+}
+
+/// A note as a sentence in text mode.
+fn note_latex(note: &Note) -> String {
+    match note {
+        Note::Truncation { .. } => {
+            let sentence = report::note_text(note);
+            let mut chars = sentence.chars();
+            let capitalized = match chars.next() {
+                Some(first) => first.to_uppercase().chain(chars).collect(),
+                None => String::new(),
+            };
+            format!("{}.", escape_text(&capitalized))
+        }
+    }
+}
+
+/// One table cell: the exact value (or a mark when too long), with the number beside it.
+fn cell(value: &RatFunc, ctx: &SpaceContext<'_>, too_long: &mut bool) -> Tex {
+    let exact = scalar(value, ctx.names);
+    let mut res = if exact.width > CELL_LIMIT {
+        *too_long = true;
+        Tex::new("\\ast", 1)
+    } else {
+        exact
+    };
+    if !ctx.options.at.is_empty() && !value.is_zero() {
+        let number = numeric(value, ctx.names, &ctx.options.at);
+        res.push_str(" \\approx ", 2);
+        res.push(&number);
+    }
+    res
+}
+
+/// A number from `check::evaluate_named`, with six significant digits.
+fn numeric(value: &RatFunc, names: &[String], at: &super::ParamValues) -> Tex {
+    match check::evaluate_named(value, names, at) {
+        Some((re, im)) if im != 0.0 => {
+            let sign = if im < 0.0 { " - " } else { " + " };
+            let (re, im) = (float(re), float(im.abs()));
+            Tex::new(format!("{}{sign}{}\\,i", re.text, im.text), re.width + im.width + 4)
+        }
+        Some((re, _)) => float(re),
+        None => Tex::new("\\text{undefined}", 9),
+    }
+}
+
+/// `1.23457`, `-0.0012`, `6.02214 \times 10^{23}`: six significant digits.
+fn float(x: f64) -> Tex {
+    if x == 0.0 {
+        return Tex::new("0", 1);
+    }
+    if !x.is_finite() {
+        return Tex::new("\\text{overflow}", 8);
+    }
+    let scientific = format!("{x:.5e}");
+    let (mantissa, exponent) = scientific.split_once('e').unwrap_or((&scientific, "0"));
+    let exponent: i32 = exponent.parse().unwrap_or(0);
+    if (-3..5).contains(&exponent) {
+        let decimals = (5 - exponent) as usize;
+        let fixed = format!("{x:.decimals$}");
+        let trimmed = if fixed.contains('.') {
+            fixed.trim_end_matches('0').trim_end_matches('.')
+        } else {
+            &fixed
+        };
+        return Tex::new(trimmed.to_string(), trimmed.len());
+    }
+    let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
+    Tex::new(format!("{mantissa} \\times 10^{{{exponent}}}"), mantissa.len() + 5)
+}
+
+fn split_text(branch: &Branch, d: usize) -> String {
+    match (&branch.not_split, branch.split_at) {
+        (Some(ns), _) => format!("not split at {}", ns.order),
+        (None, Some(s)) => s.to_string(),
+        (None, None) if d == 1 => "---".to_string(),
+        (None, None) => "never".to_string(),
+    }
+}
+
+fn branch_table(out: &mut String, ctx: &SpaceContext<'_>) {
+    let space = ctx.space;
+    let d = space.basis.len();
+    let n_orders = ctx.order as usize + 1;
+    let mut too_long = false;
+    // cells[b][k]: branch b, order k; `None` where a branch that could not be split stops.
+    let cells: Vec<Vec<Option<Tex>>> = space
+        .branches
+        .iter()
+        .map(|branch| {
+            (0..n_orders)
+                .map(|k| branch.energy.get(k).map(|value| cell(value, ctx, &mut too_long)))
+                .collect()
+        })
+        .collect();
+    let splits: Vec<String> = space.branches.iter().map(|b| split_text(b, d)).collect();
+    let order_widths: Vec<usize> = (0..n_orders)
+        .map(|k| {
+            cells.iter().map(|row| row[k].as_ref().map_or(3, |c| c.width)).max().unwrap_or(3).max(5)
+        })
+        .collect();
+    let normal_width = 3 + order_widths.iter().map(|w| w + 2).sum::<usize>() + 8 + 12;
+    let energies: Vec<String> =
+        space.unperturbed.iter().map(|e| scalar(e, ctx.names).text).collect();
+    let mut caption = format!(
+        "Energy branches of model space~{} of \\texttt{{{}}} ($E_0 = {}$) to order $N = {}$: \
+         coefficients $E^{{(k)}}$ of $\\lambda^k$, multiplicity at order $N$, and the order at which \
+         each branch splits from its siblings.",
+        ctx.number,
+        file_name(short_name(ctx.name)),
+        energies.join(",\\ "),
+        ctx.order
+    );
+    if !ctx.options.at.is_empty() {
+        let _ = write!(
+            caption,
+            " Numbers after $\\approx$ are at {}.",
+            at_text(&ctx.options.at, ctx.names)
+        );
+    }
+    out.push_str("\n\\begin{table}[htbp]\n\\centering\n\\small\n");
+    let _ = writeln!(out, "\\caption{{{caption}}}");
+    if normal_width <= TABLE_BUDGET {
+        let _ = writeln!(out, "\\begin{{tabular}}{{@{{}}c{}cc@{{}}}}", "l".repeat(n_orders));
+        out.push_str("\\toprule\nbranch");
+        for k in 0..n_orders {
+            let _ = write!(out, " & $E^{{({k})}}$");
+        }
+        out.push_str(" & multiplicity & split at \\\\\n\\midrule\n");
+        for (b, row) in cells.iter().enumerate() {
+            let _ = write!(out, "{}", b + 1);
+            for value in row {
+                match value {
+                    Some(tex) => {
+                        let _ = write!(out, " & ${}$", tex.text);
+                    }
+                    None => out.push_str(" & ---"),
+                }
+            }
+            let _ = writeln!(out, " & {} & {} \\\\", space.branches[b].multiplicity, splits[b]);
+        }
+        out.push_str("\\bottomrule\n\\end{tabular}\n");
+    } else {
+        // Orders as rows, branches as columns, in as many blocks as the width needs.
+        let label_width = 12;
+        let branch_widths: Vec<usize> = cells
+            .iter()
+            .map(|row| {
+                row.iter().map(|c| c.as_ref().map_or(3, |t| t.width)).max().unwrap_or(3).max(12)
+            })
+            .collect();
+        let mut blocks: Vec<Vec<usize>> = Vec::new();
+        let mut width = label_width;
+        for (b, w) in branch_widths.iter().enumerate() {
+            match blocks.last_mut() {
+                Some(block) if width + w + 2 <= TABLE_BUDGET => {
+                    block.push(b);
+                    width += w + 2;
+                }
+                _ => {
+                    blocks.push(vec![b]);
+                    width = label_width + w + 2;
+                }
+            }
+        }
+        for (idx, block) in blocks.iter().enumerate() {
+            if idx > 0 {
+                out.push_str("\n\\medskip\n");
+            }
+            let _ = writeln!(out, "\\begin{{tabular}}{{@{{}}l{}@{{}}}}", "l".repeat(block.len()));
+            out.push_str("\\toprule\n");
+            for &b in block {
+                let _ = write!(out, " & branch {}", b + 1);
+            }
+            out.push_str(" \\\\\n\\midrule\n");
+            for k in 0..n_orders {
+                let _ = write!(out, "$E^{{({k})}}$");
+                for row in block.iter().map(|&b| &cells[b]) {
+                    match &row[k] {
+                        Some(tex) => {
+                            let _ = write!(out, " & ${}$", tex.text);
+                        }
+                        None => out.push_str(" & ---"),
+                    }
+                }
+                out.push_str(" \\\\\n");
+            }
+            out.push_str("\\midrule\nmultiplicity");
+            for &b in block {
+                let _ = write!(out, " & {}", space.branches[b].multiplicity);
+            }
+            out.push_str(" \\\\\nsplit at");
+            for &b in block {
+                let _ = write!(out, " & {}", splits[b]);
+            }
+            out.push_str(" \\\\\n\\bottomrule\n\\end{tabular}\n");
+        }
+    }
+    let mut remarks = Vec::new();
+    if too_long {
+        remarks.push(
+            "Entries $\\ast$ are too long for the table; they appear in the branch series below.",
+        );
+    }
+    if space.branches.iter().any(|b| b.not_split.is_some()) {
+        remarks.push(
+            "A branch marked ``not split'' belongs to a group whose secular polynomial has no exact \
+             roots; --- marks the orders that are therefore unknown.",
+        );
+    }
+    if !remarks.is_empty() {
+        let _ = writeln!(out, "\n\\smallskip\n\\footnotesize {}", remarks.join(" "));
+    }
+    out.push_str("\\end{table}\n");
+}
+
+fn effective_hamiltonian(out: &mut String, ctx: &SpaceContext<'_>) {
+    let d = ctx.space.basis.len();
+    out.push_str(
+        "\nThe effective Hamiltonian (Hermitian form) in the basis above, order by order: \
+         $H^{(k)}_{\\mathrm{eff}}$ is the coefficient of $\\lambda^k$.\n",
+    );
+    for (k, matrix) in ctx.space.effective_hamiltonian.iter().enumerate() {
+        let lhs = Tex::new(format!("H^{{({k})}}_{{\\mathrm{{eff}}}} = "), 8);
+        if matrix.is_zero() {
+            let _ = writeln!(out, "\\begin{{equation*}}\n{}0\n\\end{{equation*}}", lhs.text);
+            continue;
+        }
+        let cells: Vec<Vec<Tex>> = matrix
+            .to_rows()
+            .iter()
+            .map(|r| r.iter().map(|x| scalar(x, ctx.names)).collect())
+            .collect();
+        let col_widths: Vec<usize> =
+            (0..d).map(|c| cells.iter().map(|r| r[c].width).max().unwrap_or(1)).collect();
+        let width = lhs.width + col_widths.iter().map(|w| w + 2).sum::<usize>() + 2;
+        if width <= LINE_BUDGET + 8 {
+            if d > 10 {
+                // amsmath's matrices hold 10 columns unless told otherwise.
+                let _ = writeln!(out, "\\setcounter{{MaxMatrixCols}}{{{d}}}");
+            }
+            let _ = writeln!(out, "\\begin{{equation*}}\n{}\\begin{{bmatrix}}", lhs.text);
+            let rows: Vec<String> = cells
+                .iter()
+                .map(|row| row.iter().map(|c| c.text.as_str()).collect::<Vec<_>>().join(" & "))
+                .collect();
+            let _ = writeln!(out, "{}", rows.join(" \\\\\n"));
+            out.push_str("\\end{bmatrix}\n\\end{equation*}\n");
+        } else {
+            let _ = writeln!(
+                out,
+                "Too wide for a matrix, so the non-zero entries of $H^{{({k})}}_{{\\mathrm{{eff}}}}$ \
+                 on and above the diagonal (the rest follow by Hermiticity):"
+            );
+            for a in 0..d {
+                for b in a..d {
+                    let value = matrix.get(a, b);
+                    if value.is_zero() {
+                        continue;
+                    }
+                    let lhs = Tex::new(
+                        format!(
+                            "\\bigl(H^{{({k})}}_{{\\mathrm{{eff}}}}\\bigr)_{{{},{}}} = ",
+                            a + 1,
+                            b + 1
+                        ),
+                        12,
+                    );
+                    let pieces = series_pieces(&[terms::fraction(value)], "", false, ctx.names);
+                    display(out, &lhs, &pieces, None);
+                }
+            }
+        }
+    }
+}
+
+fn secular_equation(out: &mut String, secular: &SecularEquation, names: &[String]) {
+    let _ = writeln!(
+        out,
+        "\nSecular equation at order {} (characteristic polynomial of the matrix split there):",
+        secular.order
+    );
+    let coeffs: Vec<Fraction> = secular.characteristic.iter().map(terms::fraction).collect();
+    let pieces = series_pieces(&coeffs, "x", true, names);
+    display(out, &Tex::new("", 0), &pieces, Some(&Tex::new(" = 0", 2)));
+    let roots: Vec<Tex> = secular
+        .roots
+        .iter()
+        .enumerate()
+        .map(|(idx, (root, multiplicity))| {
+            let mut tex = Tex::new(if idx == 0 { "" } else { ",\\quad " }, 2);
+            tex.push(&scalar(root, names));
+            if *multiplicity > 1 {
+                tex.push_str(&format!("\\ (\\times {multiplicity})"), 4);
+            }
+            tex
+        })
+        .collect();
+    out.push_str("with roots\n");
+    display(out, &Tex::new("x = ", 3), &roots, None);
+}
+
+fn branch_series(out: &mut String, number: usize, branch: &Branch, ctx: &SpaceContext<'_>) {
+    let coeffs: Vec<Fraction> = branch.energy.iter().map(terms::fraction).collect();
+    let mut pieces = series_pieces(&coeffs, "\\lambda", false, ctx.names);
+    if pieces.is_empty() {
+        pieces.push(Tex::new("0", 1));
+    }
+    let next = branch.energy.len();
+    pieces.push(Tex::new(format!(" + O(\\lambda^{{{next}}})"), 8));
+    let lhs = Tex::new(format!("E_{{{number}}}(\\lambda) = "), 7);
+    display(out, &lhs, &pieces, None);
+    if let Some(ns) = &branch.not_split {
+        let _ = writeln!(
+            out,
+            "Branch {number} could not be split at order {} ({}): the coefficients above are common \
+             to its group, whose secular polynomial is",
+            ns.order,
+            escape_text(&ns.reason)
+        );
+        let coeffs: Vec<Fraction> = ns.characteristic.iter().map(terms::fraction).collect();
+        let pieces = series_pieces(&coeffs, "x", true, ctx.names);
+        display(out, &Tex::new("", 0), &pieces, Some(&Tex::new(" = 0", 2)));
+        out.push_str("The effective Hamiltonian still holds; its eigenvalues are the branches.\n");
+    }
+}
+
+/// Writes `lhs pieces suffix` as `equation*` when it fits a line, else as `multline*` broken
+/// between pieces.
+fn display(out: &mut String, lhs: &Tex, pieces: &[Tex], suffix: Option<&Tex>) {
+    let mut pieces = pieces.to_vec();
+    if pieces.is_empty() {
+        pieces.push(Tex::new("0", 1));
+    }
+    if let (Some(suffix), Some(last)) = (suffix, pieces.last_mut()) {
+        last.push(suffix);
+    }
+    let total = lhs.width + pieces.iter().map(|p| p.width).sum::<usize>();
+    if total <= LINE_BUDGET {
+        let body: String = pieces.iter().map(|p| p.text.as_str()).collect();
+        let _ = writeln!(out, "\\begin{{equation*}}\n{}{body}\n\\end{{equation*}}", lhs.text);
+        return;
+    }
+    let mut lines: Vec<String> = Vec::new();
+    let mut line = lhs.text.clone();
+    let mut width = lhs.width;
+    let mut line_has_piece = false;
+    for piece in &pieces {
+        if line_has_piece && width + piece.width > LINE_BUDGET {
+            lines.push(std::mem::take(&mut line));
+            width = 0;
+        }
+        line.push_str(&piece.text);
+        width += piece.width;
+        line_has_piece = true;
+    }
+    lines.push(line);
+    let _ = writeln!(out, "\\begin{{multline*}}\n{}\n\\end{{multline*}}", lines.join(" \\\\\n"));
+}
+
+/// The operator that joins a term with `negative` sign after `first` terms.
+fn operator(negative: bool, first: bool) -> Tex {
+    match (first, negative) {
+        (true, false) => Tex::default(),
+        (true, true) => Tex::new("-", 1),
+        (false, false) => Tex::new(" + ", 2),
+        (false, true) => Tex::new(" - ", 2),
+    }
+}
+
+/// `var^{k}`, empty for `k = 0`.
+fn power(var: &str, k: usize) -> Tex {
+    match k {
+        _ if var.is_empty() => Tex::default(),
+        0 => Tex::default(),
+        1 => Tex::new(var, 1),
+        _ => Tex::new(format!("{var}^{{{k}}}"), 2 + k.to_string().len() / 2),
+    }
+}
+
+/// The terms of `sum_k coeffs[k] var^k`, each with its joining operator, as pieces between which
+/// a line may break. A coefficient that is a sum stays grouped as `var^k (a + b)`, and one that is
+/// too long a fraction as `var^k/D (a + b)`, so that each coefficient can still be read off.
+fn series_pieces(coeffs: &[Fraction], var: &str, descending: bool, names: &[String]) -> Vec<Tex> {
+    let mut order: Vec<usize> = (0..coeffs.len()).collect();
+    if descending {
+        order.reverse();
+    }
+    let mut res: Vec<Tex> = Vec::new();
+    for k in order {
+        let coeff = &coeffs[k];
+        if coeff.is_zero() {
+            continue;
+        }
+        let first = res.is_empty();
+        let power = power(var, k);
+        if coeff.denom.is_empty() {
+            if let [atom] = coeff.numer.as_slice() {
+                let mut piece = operator(atom.negative, first);
+                let magnitude = atom_tex(atom, names);
+                if power.text.is_empty() {
+                    piece.push(&magnitude);
+                } else if is_unit(atom) {
+                    piece.push(&power);
+                } else {
+                    piece.push(&magnitude);
+                    piece.push_str("\\,", 0);
+                    piece.push(&power);
+                }
+                res.push(piece);
+                continue;
+            }
+            let (negative, inner) = pull_sign(&coeff.numer);
+            if power.text.is_empty() {
+                for (idx, atom) in coeff.numer.iter().enumerate() {
+                    let mut piece = operator(atom.negative, first && idx == 0);
+                    piece.push(&atom_tex(atom, names));
+                    res.push(piece);
+                }
+                continue;
+            }
+            let mut opening = operator(negative, first);
+            opening.push(&power);
+            opening.push_str("\\bigl(", 1);
+            grouped(&mut res, opening, &inner, names);
+            continue;
+        }
+        let whole = inline_value(coeff, names);
+        let (negative, inner) = pull_sign(&coeff.numer);
+        let denominator = inline_sum(&coeff.denom, names);
+        if whole.width <= FRACTION_LIMIT {
+            let mut piece = operator(negative, first);
+            let numerator = inline_sum(&inner, names);
+            piece.push(&frac(&numerator, &denominator));
+            if !power.text.is_empty() {
+                piece.push_str("\\,", 0);
+                piece.push(&power);
+            }
+            res.push(piece);
+        } else {
+            let mut opening = operator(negative, first);
+            let top = if power.text.is_empty() { Tex::new("1", 1) } else { power };
+            opening.push(&frac(&top, &denominator));
+            opening.push_str("\\bigl(", 1);
+            grouped(&mut res, opening, &inner, names);
+        }
+    }
+    res
+}
+
+/// Pushes `opening a + b - c \bigr)`: as one piece when the group is short enough to keep on one
+/// line, else one piece per atom so the line may break inside the parentheses.
+fn grouped(res: &mut Vec<Tex>, opening: Tex, atoms: &[Atom], names: &[String]) {
+    let mut whole = opening.clone();
+    whole.push(&inline_sum(atoms, names));
+    whole.push_str("\\bigr)", 1);
+    if whole.width <= LINE_BUDGET / 2 {
+        res.push(whole);
+        return;
+    }
+    let mut pending = Some(opening);
+    for (idx, atom) in atoms.iter().enumerate() {
+        let mut piece = pending.take().unwrap_or_default();
+        piece.push(&operator(atom.negative, idx == 0));
+        piece.push(&atom_tex(atom, names));
+        if idx + 1 == atoms.len() {
+            piece.push_str("\\bigr)", 1);
+        }
+        res.push(piece);
+    }
+}
+
+/// When every atom is negative, `(true, negated atoms)`, so that a sum reads `-(a + b)`.
+fn pull_sign(atoms: &[Atom]) -> (bool, Vec<Atom>) {
+    if !atoms.is_empty() && atoms.iter().all(|a| a.negative) {
+        (true, atoms.iter().map(Atom::negated).collect())
+    } else {
+        (false, atoms.to_vec())
+    }
+}
+
+fn frac(numerator: &Tex, denominator: &Tex) -> Tex {
+    Tex::new(
+        format!("\\frac{{{}}}{{{}}}", numerator.text, denominator.text),
+        numerator.width.max(denominator.width) + 1,
+    )
+}
+
+/// Whether the atom's magnitude is exactly 1 with nothing else.
+fn is_unit(atom: &Atom) -> bool {
+    atom.root == 1 && !atom.imaginary && atom.factors.is_empty() && atom.magnitude.is_one()
+}
+
+/// A value typeset inline: a sum, or a fraction of sums.
+fn scalar(value: &RatFunc, names: &[String]) -> Tex {
+    inline_value(&terms::fraction(value), names)
+}
+
+fn inline_value(value: &Fraction, names: &[String]) -> Tex {
+    if value.denom.is_empty() {
+        return inline_sum(&value.numer, names);
+    }
+    let (negative, inner) = pull_sign(&value.numer);
+    let mut res = operator(negative, true);
+    res.push(&frac(&inline_sum(&inner, names), &inline_sum(&value.denom, names)));
+    res
+}
+
+fn inline_sum(atoms: &[Atom], names: &[String]) -> Tex {
+    if atoms.is_empty() {
+        return Tex::new("0", 1);
+    }
+    let mut res = Tex::default();
+    for (idx, atom) in atoms.iter().enumerate() {
+        res.push(&operator(atom.negative, idx == 0));
+        res.push(&atom_tex(atom, names));
+    }
+    res
+}
+
+/// The magnitude of an atom: `\frac{3}{4}\sqrt{2}\, i\, g^{2} \delta`.
+fn atom_tex(atom: &Atom, names: &[String]) -> Tex {
+    let mut parts: Vec<Tex> = Vec::new();
+    let rest = atom.root != 1 || atom.imaginary || !atom.factors.is_empty();
+    if !atom.magnitude.is_one() || !rest {
+        let (numer, denom) =
+            (atom.magnitude.numer().to_string(), atom.magnitude.denom().to_string());
+        if atom.magnitude.is_integer() {
+            parts.push(Tex::new(numer.clone(), numer.len()));
+        } else {
+            parts.push(frac(
+                &Tex::new(numer.clone(), numer.len()),
+                &Tex::new(denom.clone(), denom.len()),
+            ));
+        }
+    }
+    if atom.root != 1 {
+        let root = atom.root.to_string();
+        parts.push(Tex::new(format!("\\sqrt{{{root}}}"), root.len() + 1));
+    }
+    if atom.imaginary {
+        parts.push(Tex::new("i", 1));
+    }
+    for (param, exponent) in &atom.factors {
+        let name = names.get(param.0 as usize).map_or("?", String::as_str);
+        let mut tex = symbol(name);
+        if *exponent > 1 {
+            tex.push_str(&format!("^{{{exponent}}}"), 1);
+        }
+        parts.push(tex);
+    }
+    let mut res = Tex::default();
+    for (idx, part) in parts.iter().enumerate() {
+        if idx > 0 {
+            // A thin space after a root or `i` keeps `\sqrt{2}\, g` from reading as one radicand.
+            let previous = &parts[idx - 1].text;
+            if previous.starts_with("\\sqrt") || previous == "i" {
+                res.push_str("\\,", 0);
+            } else {
+                res.push_str(" ", 0);
+            }
+        }
+        res.push(part);
+    }
+    res
+}
+
+/// A parameter typeset as a symbol: Greek names as letters, a trailing number or the part after
+/// `_` as a subscript, other multi-letter names upright.
+fn symbol(name: &str) -> Tex {
+    let (base, subscript) = match name.split_once('_') {
+        Some((base, sub)) if !base.is_empty() && !sub.is_empty() => (base, Some(sub)),
+        _ => {
+            let stem = name.trim_end_matches(|c: char| c.is_ascii_digit());
+            if !stem.is_empty() && stem.len() < name.len() {
+                (stem, Some(&name[stem.len()..]))
+            } else {
+                (name, None)
+            }
+        }
+    };
+    let mut res = symbol_part(base);
+    if let Some(sub) = subscript {
+        let sub_tex = if sub.chars().all(|c| c.is_ascii_digit()) {
+            Tex::new(sub, sub.len())
+        } else {
+            symbol_part(sub)
+        };
+        res.push_str(&format!("_{{{}}}", sub_tex.text), sub_tex.width.div_ceil(2));
+    }
+    res
+}
+
+fn symbol_part(name: &str) -> Tex {
+    if GREEK.contains(&name) || GREEK_CAPITAL.contains(&name) {
+        return Tex::new(format!("\\{name}"), 1);
+    }
+    if name.chars().count() == 1 && name.chars().all(|c| c.is_ascii_alphabetic()) {
+        return Tex::new(name, 1);
+    }
+    Tex::new(format!("\\mathrm{{{}}}", escape_math(name)), name.chars().count())
+}
+
+/// A model-space state: a ket, or a sum of kets with exact coefficients.
+fn state(vector: &SparseVec<RatFunc>, basis: &Basis, names: &[String]) -> Tex {
+    if let [(idx, coeff)] = vector.entries() {
+        if coeff.is_one() {
+            return ket(basis, *idx);
+        }
+    }
+    let mut res = Tex::default();
+    for (k, (idx, coeff)) in vector.entries().iter().enumerate() {
+        let value = terms::fraction(coeff);
+        let single = value.denom.is_empty() && value.numer.len() == 1;
+        if single {
+            let atom = &value.numer[0];
+            res.push(&operator(atom.negative, k == 0));
+            if !is_unit(atom) {
+                res.push(&atom_tex(atom, names));
+                res.push_str("\\,", 0);
+            }
+        } else {
+            res.push(&operator(false, k == 0));
+            res.push_str("\\bigl(", 1);
+            res.push(&inline_value(&value, names));
+            res.push_str("\\bigr)", 1);
+        }
+        res.push(&ket(basis, *idx));
+    }
+    if res.text.is_empty() {
+        res = Tex::new("0", 1);
+    }
+    res
+}
+
+/// `\lvert 0, +\tfrac12, \mathrm{L}\rangle` for a product-basis state.
+fn ket(basis: &Basis, state_idx: usize) -> Tex {
+    let labels: Vec<Tex> = basis
+        .factors(state_idx)
+        .iter()
+        .zip(basis.spaces())
+        .map(|(&local, space)| match &space.kind {
+            SpaceKind::Oscillator { .. } => Tex::new(local.to_string(), local.to_string().len()),
+            SpaceKind::Spin { .. } => match space.spin_m(local) {
+                Some(m) if m.is_integer() => {
+                    // The contract labels spin states with an explicit sign: `+1`, `0`, `-1`.
+                    let text = if m.is_positive() { format!("+{m}") } else { m.to_string() };
+                    let width = text.len();
+                    Tex::new(text, width)
+                }
+                Some(m) => {
+                    let sign = if m.is_negative() { "-" } else { "+" };
+                    let (p, q) = (m.numer().magnitude().to_string(), m.denom().to_string());
+                    let text = if p.len() == 1 && q.len() == 1 {
+                        format!("{sign}\\tfrac{p}{q}")
+                    } else {
+                        format!("{sign}\\tfrac{{{p}}}{{{q}}}")
+                    };
+                    Tex::new(text, 2 + p.len().max(q.len()))
+                }
+                None => Tex::new(escape_math(&space.state_label(local)), 2),
+            },
+            SpaceKind::Levels { labels } => {
+                let label = labels.get(local).map_or("?", String::as_str);
+                Tex::new(format!("\\mathrm{{{}}}", escape_math(label)), label.chars().count())
+            }
+        })
+        .collect();
+    let mut res = Tex::new("\\lvert ", 1);
+    for (k, label) in labels.iter().enumerate() {
+        if k > 0 {
+            res.push_str(", ", 1);
+        }
+        res.push(label);
+    }
+    res.push_str("\\rangle", 1);
+    res
+}
+
+/// A model's display name for `\texttt`, escaped, with break points after `/` and `_` so a
+/// long path wraps instead of running into the margin.
+fn file_name(raw: &str) -> String {
+    let mut res = String::new();
+    for ch in raw.chars() {
+        res.push_str(&escape_text(&ch.to_string()));
+        if matches!(ch, '/' | '_') {
+            res.push_str("\\allowbreak{}");
+        }
+    }
+    res
+}
+
+/// The last component of a path-like display name, short enough for headings and captions (the
+/// introduction gives the name in full).
+fn short_name(name: &str) -> &str {
+    name.rsplit(['/', '\\']).find(|part| !part.is_empty()).unwrap_or(name)
+}
+
+/// Escapes text-mode specials (`\ _ # % & $ { } ^ ~`).
+fn escape_text(raw: &str) -> String {
+    let mut res = String::with_capacity(raw.len());
+    for ch in raw.chars() {
+        match ch {
+            '\\' => res.push_str("\\textbackslash{}"),
+            '^' => res.push_str("\\textasciicircum{}"),
+            '~' => res.push_str("\\textasciitilde{}"),
+            '_' | '#' | '%' | '&' | '$' | '{' | '}' => {
+                res.push('\\');
+                res.push(ch);
+            }
+            '\n' | '\r' => res.push(' '),
+            _ => res.push(ch),
+        }
+    }
+    res
+}
+
+/// Escapes specials inside `\mathrm{...}`.
+fn escape_math(raw: &str) -> String {
+    let mut res = String::with_capacity(raw.len());
+    for ch in raw.chars() {
+        match ch {
+            '\\' => res.push_str("\\backslash "),
+            '^' => res.push_str("\\hat{}"),
+            '~' => res.push_str("\\sim "),
+            '_' | '#' | '%' | '&' | '$' | '{' | '}' => {
+                res.push('\\');
+                res.push(ch);
+            }
+            _ => res.push(ch),
+        }
+    }
+    res
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn symbols_follow_the_naming_rules() {
+        let cases = [
+            ("g", "g"),
+            ("delta", "\\delta"),
+            ("Omega", "\\Omega"),
+            ("Alpha", "\\mathrm{Alpha}"),
+            ("g2", "g_{2}"),
+            ("w_c", "w_{c}"),
+            ("omega_c", "\\omega_{c}"),
+            ("J_zz", "J_{\\mathrm{zz}}"),
+            ("g_12", "g_{12}"),
+            ("eps", "\\mathrm{eps}"),
+            ("a_b_c", "a_{\\mathrm{b\\_c}}"),
+            ("_x", "\\mathrm{\\_x}"),
+        ];
+        for (name, expected) in cases {
+            assert_eq!(symbol(name).text, expected, "{name}");
+        }
+    }
+
+    #[test]
+    fn kets_show_each_factor_label() {
+        use crate::model::Space;
+        let spaces = vec![
+            Space { name: "q".into(), kind: SpaceKind::Oscillator { n_states: 3 } },
+            Space { name: "s".into(), kind: SpaceKind::Spin { twice_j: 1 } },
+            Space { name: "d".into(), kind: SpaceKind::Levels { labels: vec!["L_1".into()] } },
+        ];
+        let basis = Basis::new(spaces).expect("small basis");
+        // State 3 is |1, +1/2, L_1>: the oscillator index varies slowest.
+        assert_eq!(ket(&basis, 2).text, "\\lvert 1, +\\tfrac12, \\mathrm{L\\_1}\\rangle");
+        assert_eq!(ket(&basis, 1).text, "\\lvert 0, -\\tfrac12, \\mathrm{L\\_1}\\rangle");
+    }
+
+    #[test]
+    fn text_is_escaped() {
+        assert_eq!(escape_text("a_b#c%d&e$f{g}"), "a\\_b\\#c\\%d\\&e\\$f\\{g\\}");
+    }
+
+    #[test]
+    fn floats_have_six_significant_digits() {
+        assert_eq!(float(0.075).text, "0.075");
+        assert_eq!(float(-1.0 / 3.0).text, "-0.333333");
+        assert_eq!(float(123456.0).text, "1.23456 \\times 10^{5}");
+        assert_eq!(float(1.0e-7).text, "1 \\times 10^{-7}");
+    }
+}
