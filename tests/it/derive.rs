@@ -15,7 +15,7 @@ fn check_derive(text: &str, order: u32) -> (Model, Derivation) {
         Ok(res) => res,
         Err(d) => panic!("did not lower:\n{}", d.render(text, "model.clv")),
     };
-    let derivation = match derive(&model, &DeriveOptions { order }) {
+    let derivation = match derive(&model, &DeriveOptions::new(order)) {
         Ok(res) => res,
         Err(err) => panic!("did not derive: {err}"),
     };
@@ -504,7 +504,7 @@ V = g * s.x
 /// Derives `text` to `order` and returns the error.
 fn check_derive_error(text: &str, order: u32) -> EngineError {
     let (model, _) = cleave::load(text).expect("the model lowers");
-    derive(&model, &DeriveOptions { order }).expect_err("the derivation should fail")
+    derive(&model, &DeriveOptions::new(order)).expect_err("the derivation should fail")
 }
 
 #[test]
@@ -576,7 +576,7 @@ fn bad_orders_and_focus_exit_with_status_two() {
 fn check_example(stem: &str, text: &str) {
     let (model, _) = cleave::load(text).expect("the example lowers");
     let order = model.order().unwrap_or(2);
-    let derivation = derive(&model, &DeriveOptions { order }).expect("the example derives");
+    let derivation = derive(&model, &DeriveOptions::new(order)).expect("the example derives");
     let name = format!("examples/{stem}.clv");
     let spectrum = &derivation.spectrum;
     let outputs = [

@@ -201,7 +201,7 @@ fn check_derive(text: &str, order: u32) -> (Model, Derivation) {
         Ok(res) => res,
         Err(d) => panic!("generated model did not lower:\n{}\n{text}", d.render(text, "model.clv")),
     };
-    let derivation = derive(&model, &DeriveOptions { order })
+    let derivation = derive(&model, &DeriveOptions::new(order))
         .unwrap_or_else(|err| panic!("did not derive: {err}\n{text}"));
     (model, derivation)
 }
