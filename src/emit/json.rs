@@ -50,7 +50,19 @@ pub fn levels_json(model: &Model, spectrum: &Spectrum) -> String {
 struct DeriveJson {
     order: u32,
     parameters: Vec<String>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    roots: Vec<RootJson>,
     model_spaces: Vec<ModelSpaceJson>,
+}
+
+/// An algebraic number that values write as `root(P, k)`.
+#[derive(Serialize)]
+struct RootJson {
+    name: String,
+    /// Coefficients of the monic `P`, from `x^0` up.
+    polynomial: Vec<String>,
+    index: usize,
+    approximation: f64,
 }
 
 #[derive(Serialize)]
@@ -96,14 +108,25 @@ struct SecularJson {
     multiplicities: Vec<usize>,
 }
 
-/// The JSON of `cleave derive --json`: the contract's fields, plus `secular_equations`, `notes`,
-/// and per branch its `state` and, where the reduction stopped, `not_split`.
+/// The JSON of `cleave derive --json`: the contract's fields, plus `roots` (the `root(P, k)` values
+/// mention, when there are any), `secular_equations`, `notes`, and per branch its `state` and,
+/// where the reduction stopped, `not_split`.
 pub fn json(model: &Model, derivation: &Derivation) -> String {
     let names = derivation.symbol_names();
     let basis = model.basis();
     let doc = DeriveJson {
         order: derivation.order,
-        parameters: names.clone(),
+        parameters: derivation.parameters.clone(),
+        roots: derivation
+            .roots
+            .iter()
+            .map(|r| RootJson {
+                name: r.name(),
+                polynomial: r.polynomial.iter().map(ToString::to_string).collect(),
+                index: r.index,
+                approximation: r.approximation().to_f64(),
+            })
+            .collect(),
         model_spaces: derivation
             .model_spaces
             .iter()

@@ -625,3 +625,31 @@ fn example_spin_one_axial() {
 fn example_spin_orbit_field() {
     check_example("spin_orbit_field", include_str!("../../examples/spin_orbit_field.clv"));
 }
+
+#[test]
+fn example_dot_trimer() {
+    check_example("dot_trimer", include_str!("../../examples/dot_trimer.clv"));
+}
+
+/// Every bundled example has its snapshot test above; a new example must add one.
+#[test]
+fn every_example_is_snapshotted() {
+    let covered = [
+        "axial_spin",
+        "dot_trimer",
+        "hubbard_dimer",
+        "lambda_three_level",
+        "quartic_oscillator",
+        "qubit_resonator",
+        "spin_one_axial",
+        "spin_orbit_field",
+    ];
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/examples");
+    let mut found: Vec<String> = std::fs::read_dir(dir)
+        .expect("examples folder")
+        .filter_map(|e| e.ok()?.file_name().into_string().ok())
+        .filter_map(|n| n.strip_suffix(".clv").map(str::to_string))
+        .collect();
+    found.sort();
+    assert_eq!(found, covered);
+}

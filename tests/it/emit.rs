@@ -274,7 +274,11 @@ fn compile_and_compare(derivation: &Derivation, code: &str, points: &[(f64, &[f6
         .flat_map(|l| l.split_whitespace())
         .map(|v| v.parse::<f64>().unwrap_or_else(|_| panic!("not a number: {v}")));
     let mut next = || values.next().expect("enough values printed");
-    for (lambda, params) in points {
+    for (lambda, given) in points {
+        // Values mention the parameters, then the algebraic roots as further symbols.
+        let mut params = given.to_vec();
+        params.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
+        let params = &params;
         for space in &derivation.model_spaces {
             for branch in &space.branches {
                 let exact = series_value(&branch.energy, *lambda, params).0;
@@ -427,7 +431,7 @@ order 3
 
 #[test]
 fn rust_group_that_cannot_be_split() {
-    check_rust(NOT_SPLIT, &[(0.1, &[]), (0.2, &[]), (0.05, &[])]);
+    check_rust(NOT_SPLIT, &[(0.1, &[1.0, 2.0]), (0.2, &[0.5, 1.5]), (0.05, &[2.0, 0.25])]);
 }
 
 #[test]
@@ -435,9 +439,30 @@ fn latex_group_that_cannot_be_split() {
     check_latex(NOT_SPLIT, &[]);
 }
 
-/// A degenerate level whose first-order secular polynomial `x^3 - x^2 - 2x + 1` has no roots that
-/// square roots of rationals can write.
+/// A degenerate level whose first-order secular matrix `[[a, b], [b, -a]]` has the eigenvalues
+/// `±sqrt(a^2 + b^2)`, which are not rational functions of the parameters.
 const NOT_SPLIT: &str = r#"
+param a, b
+space d = levels(A, B, E)
+H0 = |E><E|
+V = a * (|A><A| - |B><B|) + b * (|A><B| + |B><A|) + |A><E| + |E><A|
+focus 0
+order 3
+"#;
+
+#[test]
+fn rust_cubic_roots_become_constants() {
+    check_rust(CUBIC, &[(0.1, &[]), (0.2, &[]), (0.05, &[])]);
+}
+
+#[test]
+fn latex_cubic_roots_are_defined() {
+    check_latex(CUBIC, &[]);
+}
+
+/// A degenerate level whose first-order secular polynomial `x^3 - x^2 - 2x + 1` is irreducible:
+/// its branches are written with `root(P, k)`.
+const CUBIC: &str = r#"
 space d = levels(A, B, C, E)
 H0 = |E><E|
 V = |A><B| + |B><A| + |B><C| + |C><B| + |C><C| + |A><E| + |E><A|

@@ -324,7 +324,9 @@ fn hermitian_eigenvalues(re: &DMatrix<f64>, im: &DMatrix<f64>) -> Vec<f64> {
 fn check_error_scaling(model: &Model, derivation: &Derivation, g_value: f64) -> Result<(), String> {
     let Some(branches) = all_branches(derivation) else { return Ok(()) };
     let order = derivation.order as usize;
-    let params = [g_value];
+    // The parameter (if any) at g_value, then the numeric values of any algebraic roots.
+    let mut params: Vec<f64> = model.params().iter().map(|_| g_value).collect();
+    params.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
     let num = |x: &RatFunc| evaluate(x, &params).expect("no pole at a generic g");
     let to_matrices = |op: &cleave::model::Operator| {
         let rows = op.to_dense();
@@ -374,8 +376,13 @@ proptest! {
     #[test]
     fn exact_self_checks_hold_on_random_models(text in model_text(), order in 2u32..=4) {
         let (model, derivation) = check_derive(&text, order);
-        check_effective_hamiltonians(&derivation, &text);
-        check_spectrum_identities(&model, &derivation, &text);
+        // Branches written with roots of a cubic (root(P, k) symbols) satisfy these identities only
+        // modulo the relations between the roots, which exact equality of rational functions does
+        // not see; the numeric property below covers them.
+        if derivation.roots.is_empty() {
+            check_effective_hamiltonians(&derivation, &text);
+            check_spectrum_identities(&model, &derivation, &text);
+        }
     }
 
 
