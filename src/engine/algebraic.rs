@@ -5,10 +5,10 @@
 //! with spectral projectors instead of an eigenbasis: the other roots of the cubic do not lie in
 //! `K(alpha)`, so no basis of the complement is formed. For a simple eigenvalue `mu` with right
 //! eigenvector `v` and left eigenvector `w` (`w^T v = 1`), Rayleigh–Schrödinger theory reads
-//! `E_m = w^T sum_k A_k Omega_{m-k}`, `Omega_m = M^{-1} Q (sum_k A_k Omega_{m-k}
-//! - sum_{j=1..m-1} E_{m-j} Omega_j)` with `Q = 1 - v w^T` and `M = mu - A_0 + v w^T`, which is
-//! invertible and equals `mu - A_0` on the range of `Q` (Kato 1966, ch. II §2, the reduced
-//! resolvent).
+//! `E_m = w^T sum_k A_k Omega_{m-k}` and
+//! `Omega_m = M^{-1} Q (sum_k A_k Omega_{m-k} - sum_{j=1..m-1} E_{m-j} Omega_j)`
+//! with `Q = 1 - v w^T` and `M = mu - A_0 + v w^T`, which is invertible and equals `mu - A_0` on
+//! the range of `Q` (Kato 1966, ch. II §2, the reduced resolvent).
 
 use super::split::RawSecular;
 use super::RootAtom;
@@ -53,9 +53,9 @@ pub(crate) fn simple_eigenvalue_series<E: Field>(
     let project =
         |x: &[E]| -> E { w.iter().zip(x).fold(E::zero(), |acc, (a, b)| acc + a.clone() * b) };
     let mut m = DenseMatrix::zeros(d, d);
-    for i in 0..d {
-        for j in 0..d {
-            let mut x = v[i].clone() * &w[j] - a0.get(i, j);
+    for (i, vi) in v.iter().enumerate() {
+        for (j, wj) in w.iter().enumerate() {
+            let mut x = vi.clone() * wj - a0.get(i, j);
             if i == j {
                 x += mu;
             }

@@ -124,7 +124,7 @@ impl Algebraic {
             if !c.is_zero() {
                 acc += &(c.clone() * &power);
             }
-            power = power * &alpha;
+            power *= &alpha;
         }
         acc
     }
