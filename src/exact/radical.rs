@@ -55,15 +55,32 @@ pub fn split_square(n: u64) -> (u64, u64) {
     (square_root, free)
 }
 
-/// Splits a positive `BigInt` into `(k, s)` with `n = k^2 * s`, `s` square-free in `i64`.
+thread_local! {
+    /// Set when a square-free radicand outgrew `i64` (see [`take_radicand_overflow`]).
+    static RADICAND_OVERFLOW: std::cell::Cell<bool> = const { std::cell::Cell::new(false) };
+}
+
+/// Whether some radicand outgrew `i64` on this thread since the last call, which then clears it.
 ///
-/// # Panics
-/// When the square-free part does not fit in an `i64`: radicands in model files are small, and a
-/// basis element `sqrt(s)` with an 18-digit `s` means the input is not a physical model.
+/// Arithmetic cannot fail, so a radicand beyond 64 bits (a product of the square roots of every
+/// prime up to about 50) is recorded here and the value computed is meaningless; callers that run
+/// a computation (the engine, the spectrum) check this flag and report that the computation cannot
+/// be done exactly, instead of printing a wrong value or panicking.
+pub fn take_radicand_overflow() -> bool {
+    RADICAND_OVERFLOW.with(|flag| flag.replace(false))
+}
+
+fn note_radicand_overflow() -> i64 {
+    RADICAND_OVERFLOW.with(|flag| flag.set(true));
+    1
+}
+
+/// Splits a positive `BigInt` into `(k, s)` with `n = k^2 * s`, `s` square-free in `i64`.
+/// A square-free part beyond `i64` is recorded by [`take_radicand_overflow`].
 fn split_square_big(n: &BigInt) -> (BigInt, i64) {
     if let Some(small) = n.to_u64() {
         let (k, s) = split_square(small);
-        let s = i64::try_from(s).expect("square-free part of a radicand fits in i64");
+        let s = i64::try_from(s).unwrap_or_else(|_| note_radicand_overflow());
         return (BigInt::from(k), s);
     }
     // Beyond u64 only small factors are pulled out; what remains is either a perfect square or
@@ -99,7 +116,7 @@ fn split_square_big(n: &BigInt) -> (BigInt, i64) {
             free *= rest;
         }
     }
-    (square_root, free.to_i64().expect("square-free part of a radicand fits in i64"))
+    (square_root, free.to_i64().unwrap_or_else(note_radicand_overflow))
 }
 
 /// The smallest prime factor of `n > 1`.
@@ -126,7 +143,7 @@ fn mul_basis(a: i64, b: i64) -> (i64, i64) {
         return (1, a);
     }
     let g = num_integer::Integer::gcd(&a, &b);
-    let s = (a / g).checked_mul(b / g).expect("product of radicands fits in i64");
+    let s = (a / g).checked_mul(b / g).unwrap_or_else(note_radicand_overflow);
     let coef = if a < 0 && b < 0 { -g } else { g };
     (coef, s)
 }
@@ -149,15 +166,14 @@ impl Radical {
     /// With `value = p/q` in lowest terms, `p = a^2 s1` and `q = b^2 s2`, the root is
     /// `a/(b s2) * sqrt(s1 s2)`; `s1 s2` is square-free because `p` and `q` are coprime.
     ///
-    /// # Panics
-    /// When the square-free part of `p*q` does not fit in an `i64`.
+    /// A square-free part of `p*q` beyond `i64` is recorded by [`take_radicand_overflow`].
     pub fn sqrt_of(value: &Rational) -> Radical {
         if value.is_zero() {
             return Radical::zero();
         }
         let (a, s1) = split_square_big(&value.numer().abs());
         let (b, s2) = split_square_big(value.denom());
-        let s = s1.checked_mul(s2).expect("square-free part of a radicand fits in i64");
+        let s = s1.checked_mul(s2).unwrap_or_else(note_radicand_overflow);
         let s = if value.is_negative() { -s } else { s };
         let coef = Rational::new(a, b * BigInt::from(s2)).expect("denominator is positive");
         Radical { terms: vec![(s, coef)] }

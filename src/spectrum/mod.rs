@@ -54,7 +54,14 @@ impl std::fmt::Display for SpectrumError {
 /// entries connect, each block is split by [`eigen::eigenspaces`], and equal eigenvalues of
 /// different blocks are merged into one level.
 pub fn unperturbed_levels(model: &Model) -> Result<Spectrum, SpectrumError> {
-    spectrum_of(model.h0())
+    crate::exact::take_radicand_overflow();
+    let res = spectrum_of(model.h0())?;
+    if crate::exact::take_radicand_overflow() {
+        return Err(SpectrumError::Unsupported(
+            "the eigenvectors of H0 need square roots beyond 64-bit radicands".into(),
+        ));
+    }
+    Ok(res)
 }
 
 /// The spectrum of any Hermitian operator on the product space (see [`unperturbed_levels`]).
