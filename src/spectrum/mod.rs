@@ -55,7 +55,9 @@ impl std::fmt::Display for SpectrumError {
 /// different blocks are merged into one level.
 pub fn unperturbed_levels(model: &Model) -> Result<Spectrum, SpectrumError> {
     crate::exact::take_radicand_overflow();
-    let res = spectrum_of(model.h0())?;
+    let mut res = spectrum_of(model.h0())?;
+    let positive: Vec<bool> = model.params().iter().map(|p| p.positive).collect();
+    sort_with_signs(&mut res.levels, &positive);
     if crate::exact::take_radicand_overflow() {
         return Err(SpectrumError::Unsupported(
             "the eigenvectors of H0 need square roots beyond 64-bit radicands".into(),
@@ -116,6 +118,51 @@ pub fn spectrum_of(h0: &Operator) -> Result<Spectrum, SpectrumError> {
         levels: levels.into_iter().map(|(energy, states)| Level { energy, states }).collect(),
         diagonal,
     })
+}
+
+/// Puts symbolic levels in ascending order when every difference has a sign that the declared
+/// positive parameters decide (`9/4*D` above `1/4*D` for `D > 0`); otherwise leaves the order.
+fn sort_with_signs(levels: &mut [Level], positive: &[bool]) {
+    let n = levels.len();
+    for a in 0..n {
+        for b in a + 1..n {
+            if known_sign(&(levels[a].energy.clone() - &levels[b].energy), positive).is_none() {
+                return;
+            }
+        }
+    }
+    levels.sort_by(|a, b| {
+        known_sign(&(a.energy.clone() - &b.energy), positive).expect("checked above").cmp(&0)
+    });
+}
+
+/// The sign of a value for every admissible choice of the parameters, when the declared positive
+/// parameters decide it: a real constant, or numerator and denominator each a sum of terms of one
+/// sign in which every parameter is positive or enters with an even power.
+pub fn known_sign(value: &RatFunc, positive: &[bool]) -> Option<i32> {
+    if value.is_zero() {
+        return Some(0);
+    }
+    let sign_of = |poly: &crate::exact::Poly| -> Option<i32> {
+        let mut sign = 0;
+        for (monomial, coeff) in poly.terms() {
+            let c = coeff.as_rational()?;
+            let definite = monomial
+                .factors()
+                .iter()
+                .all(|(p, e)| e % 2 == 0 || positive.get(p.0 as usize).copied().unwrap_or(false));
+            if !definite {
+                return None;
+            }
+            let s = c.signum();
+            if sign != 0 && s != sign {
+                return None;
+            }
+            sign = s;
+        }
+        Some(sign)
+    };
+    Some(sign_of(value.numer())? * sign_of(value.denom())?)
 }
 
 /// Index sets of the blocks of a square matrix (connected components of its non-zero pattern),
