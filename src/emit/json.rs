@@ -24,10 +24,10 @@ struct LevelJson {
 
 /// The JSON of `cleave levels --json`.
 pub fn levels_json(model: &Model, spectrum: &Spectrum) -> String {
-    let names = model.param_names();
+    let names = text::Names::with_spectrum(model.param_names(), spectrum);
     let basis = model.basis();
     let doc = LevelsJson {
-        parameters: names.clone(),
+        parameters: model.param_names(),
         dimension: basis.dimension(),
         levels: spectrum
             .levels
@@ -112,7 +112,7 @@ struct SecularJson {
 /// mention, when there are any), `secular_equations`, `notes`, and per branch its `state` and,
 /// where the reduction stopped, `not_split`.
 pub fn json(model: &Model, derivation: &Derivation) -> String {
-    let names = derivation.symbol_names();
+    let names = text::Names::for_derivation(derivation);
     let basis = model.basis();
     let doc = DeriveJson {
         order: derivation.order,

@@ -21,7 +21,7 @@ pub(crate) fn normalized(v: &SparseVec<RatFunc>) -> SparseVec<RatFunc> {
 
 /// The readable text of `cleave levels`.
 pub fn levels_report(model: &Model, spectrum: &Spectrum, name: &str) -> String {
-    let names = model.param_names();
+    let names = text::Names::with_spectrum(model.param_names(), spectrum);
     let basis = model.basis();
     let mut out = String::new();
     let _ = writeln!(out, "Unperturbed spectrum of {name}");
@@ -64,7 +64,7 @@ fn params_suffix(names: &[String]) -> String {
 
 /// The readable report of `cleave derive`.
 pub fn report(model: &Model, derivation: &Derivation, name: &str, at: &ParamValues) -> String {
-    let names = derivation.symbol_names();
+    let names = text::Names::for_derivation(derivation);
     let mut at_with_roots = at.clone();
     if !at.is_empty() {
         at_with_roots.extend(derivation.roots.iter().map(|r| (r.name(), r.approximation())));
@@ -98,7 +98,7 @@ fn model_space_report(
     model: &Model,
     space: &ModelSpace,
     number: usize,
-    names: &[String],
+    names: &text::Names,
     at: &ParamValues,
     order: u32,
 ) {
@@ -211,7 +211,7 @@ fn model_space_report(
     }
 }
 
-fn matrix(out: &mut String, k: usize, m: &DenseMatrix<RatFunc>, names: &[String]) {
+fn matrix(out: &mut String, k: usize, m: &DenseMatrix<RatFunc>, names: &text::Names) {
     let cells: Vec<Vec<String>> =
         m.to_rows().iter().map(|r| r.iter().map(|x| text::scalar(x, names)).collect()).collect();
     let width = cells.iter().flatten().map(String::len).max().unwrap_or(1);

@@ -171,7 +171,7 @@ fn energy_dispatch(out: &mut String, dispatch: &[(String, Vec<usize>)]) {
 }
 
 /// The description of a model space shared by its functions' docs.
-fn space_doc(model: &Model, space: &ModelSpace, number: usize, names: &[String]) -> String {
+fn space_doc(model: &Model, space: &ModelSpace, number: usize, names: &text::Names) -> String {
     let energies: Vec<String> = space.unperturbed.iter().map(|e| text::scalar(e, names)).collect();
     let states: Vec<String> =
         space.basis.iter().map(|v| text::state(v, model.basis(), names)).collect();
@@ -206,7 +206,7 @@ fn branch_function(
     idents: &[Ident],
     roots: &mut BTreeSet<u64>,
 ) -> Vec<usize> {
-    let names = &derivation.symbol_names();
+    let names = &text::Names::plain(derivation.symbol_names());
     let d = space.basis.len();
     let split = match (&branch.not_split, branch.split_at) {
         (Some(ns), _) => format!("not split at order {}", ns.order),
@@ -268,7 +268,7 @@ fn hamiltonian_function(
     idents: &[Ident],
     roots: &mut BTreeSet<u64>,
 ) {
-    let names = &derivation.symbol_names();
+    let names = &text::Names::plain(derivation.symbol_names());
     let d = space.basis.len();
     let _ = writeln!(
         out,

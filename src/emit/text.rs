@@ -1,12 +1,247 @@
 //! Exact values and state vectors in the contract's text syntax, shared by report and JSON.
+//!
+//! Rational functions are printed with their numerator and denominator factored over the
+//! differences of the unperturbed energies, the factors perturbation theory divides by, so that
+//! `-g^4*(w + delta)/(w*(2*w + delta)^3)` reads as it was derived instead of as an expanded
+//! quotient. The text stays in the contract's syntax and parses back to the same value.
 
-use crate::exact::{Field, RatFunc, Symbols};
+use std::ops::Deref;
+
+use num_bigint::BigInt;
+use num_integer::Integer;
+use num_traits::{One, Zero};
+
+use crate::engine::Derivation;
+use crate::exact::{Field, Monomial, Poly, Radical, RatFunc, Rational, Symbols};
 use crate::linalg::SparseVec;
 use crate::model::Basis;
+use crate::spectrum::Spectrum;
 
-/// A value in contract syntax.
-pub(crate) fn scalar(value: &RatFunc, names: &[String]) -> String {
-    value.display(Symbols { names }).to_string()
+/// Symbol names for printing, with the polynomials to factor denominators and numerators over.
+pub(crate) struct Names {
+    list: Vec<String>,
+    factors: Vec<Poly>,
+}
+
+impl Deref for Names {
+    type Target = [String];
+    fn deref(&self) -> &[String] {
+        &self.list
+    }
+}
+
+impl Names {
+    /// Names only; values print in the canonical expanded form.
+    pub(crate) fn plain(list: Vec<String>) -> Names {
+        Names { list, factors: Vec::new() }
+    }
+    /// The symbols of a derivation, factoring over its unperturbed energy differences.
+    pub(crate) fn for_derivation(derivation: &Derivation) -> Names {
+        Names::with_spectrum(derivation.symbol_names(), &derivation.spectrum)
+    }
+    /// `list`, factoring over the energy differences of `spectrum`.
+    pub(crate) fn with_spectrum(list: Vec<String>, spectrum: &Spectrum) -> Names {
+        let symbolic: Vec<&RatFunc> = spectrum
+            .levels
+            .iter()
+            .map(|l| &l.energy)
+            .filter(|e| e.as_constant().is_none())
+            .collect();
+        let mut factors: Vec<Poly> = Vec::new();
+        // Pairs of symbolic levels, and each symbolic level against the constant ones (its
+        // difference to a constant level is the level itself shifted, so zero stands for them).
+        const MAX_LEVELS: usize = 120;
+        if symbolic.len() <= MAX_LEVELS {
+            let zero = RatFunc::zero();
+            let mut candidates: Vec<&RatFunc> = symbolic.clone();
+            candidates.push(&zero);
+            for (k, a) in symbolic.iter().enumerate() {
+                for b in &candidates[k + 1..] {
+                    let diff = (*a).clone() - *b;
+                    if let Some(p) = primitive(diff.numer()) {
+                        if p.degree() >= 1 && p.terms().len() > 1 && !factors.contains(&p) {
+                            factors.push(p);
+                        }
+                    }
+                }
+            }
+        }
+        Names { list, factors }
+    }
+}
+
+/// `p` divided by its content, with a positive leading coefficient; `None` when the
+/// coefficients are not all rational multiples of one square root.
+fn primitive(p: &Poly) -> Option<Poly> {
+    let content = content(p)?;
+    Some(p.scale(&content.value().inv()?))
+}
+
+/// The content of a polynomial whose coefficients are rational multiples of one `sqrt(s)`: the
+/// gcd of the rational parts (signed like the leading coefficient) times `sqrt(s)`.
+struct Content {
+    rational: Rational,
+    radicand: i64,
+}
+
+impl Content {
+    fn value(&self) -> Radical {
+        Radical::basis(self.radicand, self.rational.clone()).expect("square-free radicand")
+    }
+}
+
+fn content(p: &Poly) -> Option<Content> {
+    let mut radicand = None;
+    let mut numer = BigInt::zero();
+    let mut denom = BigInt::one();
+    for (_, c) in p.terms() {
+        let [(s, q)] = c.terms() else { return None };
+        if *radicand.get_or_insert(*s) != *s {
+            return None;
+        }
+        numer = numer.gcd(q.numer());
+        denom = denom.lcm(q.denom());
+    }
+    let (_, first) = p.terms().first()?;
+    let sign = if first.terms()[0].1.is_negative() { -BigInt::one() } else { BigInt::one() };
+    Some(Content { rational: Rational::new(sign * numer, denom)?, radicand: radicand? })
+}
+
+/// A value in contract syntax, factored where that helps (see the module doc).
+pub(crate) fn scalar(value: &RatFunc, names: &Names) -> String {
+    let symbols = Symbols { names: &names.list };
+    factored(value, names).unwrap_or_else(|| value.display(symbols).to_string())
+}
+
+/// `numer/denom` with each side split into a rational constant, a monomial and powers of the
+/// known factors; `None` when that gains nothing over the expanded form.
+fn factored(value: &RatFunc, names: &Names) -> Option<String> {
+    if names.factors.is_empty() || value.denom().is_constant().is_some() {
+        return None;
+    }
+    let numer_content = content(value.numer())?;
+    let denom_content = content(value.denom())?;
+    if denom_content.radicand != 1 {
+        return None;
+    }
+    let numer = split(value.numer(), &numer_content, &names.factors)?;
+    let denom = split(value.denom(), &denom_content, &names.factors)?;
+    if numer.powers.is_empty() && denom.powers.is_empty() {
+        return None;
+    }
+    let symbols = Symbols { names: &names.list };
+    let constant = numer_content.rational * denom_content.rational.inv()?;
+    let negative = constant.is_negative();
+    let constant = constant.abs();
+    let mut top: Vec<String> = Vec::new();
+    let mut bottom: Vec<String> = Vec::new();
+    if !constant.numer().is_one() {
+        top.push(constant.numer().to_string());
+    }
+    if numer_content.radicand != 1 {
+        top.push(
+            Radical::basis(numer_content.radicand, Rational::one())
+                .expect("square-free")
+                .to_string(),
+        );
+    }
+    if !constant.denom().is_one() {
+        bottom.push(constant.denom().to_string());
+    }
+    numer.push_factors(&mut top, symbols);
+    denom.push_factors(&mut bottom, symbols);
+    let mut res = String::new();
+    if negative {
+        res.push('-');
+    }
+    if top.is_empty() {
+        res.push('1');
+    } else if negative && top.len() == 1 && is_sum(&top[0]) {
+        res.push_str(&format!("({})", top[0]));
+    } else {
+        res.push_str(&top.join("*"));
+    }
+    match bottom.as_slice() {
+        [] => {}
+        [single] if !single.contains('*') && !single.contains('^') || is_group(single) => {
+            res.push('/');
+            res.push_str(single);
+        }
+        _ => res.push_str(&format!("/({})", bottom.join("*"))),
+    }
+    Some(res)
+}
+
+/// A polynomial written as `monomial * prod factor^power * rest` over a unit rational content.
+struct Split {
+    monomial: Monomial,
+    powers: Vec<(Poly, u32)>,
+    rest: Poly,
+}
+
+impl Split {
+    fn push_factors(&self, out: &mut Vec<String>, symbols: Symbols<'_>) {
+        if !self.monomial.is_one() {
+            out.push(
+                Poly::term(self.monomial.clone(), Radical::one()).display(symbols).to_string(),
+            );
+        }
+        for (p, e) in &self.powers {
+            let text = format!("({})", p.display(symbols));
+            out.push(if *e == 1 { text } else { format!("{text}^{e}") });
+        }
+        if !self.rest.is_one() {
+            let text = self.rest.display(symbols).to_string();
+            out.push(if is_sum(&text) { format!("({text})") } else { text });
+        }
+    }
+}
+
+/// Whether `text` is one parenthesized group, like `(2*w + delta)`.
+fn is_group(text: &str) -> bool {
+    let Some(inner) = text.strip_prefix('(').and_then(|t| t.strip_suffix(')')) else {
+        return false;
+    };
+    let mut depth = 0i32;
+    for ch in inner.chars() {
+        match ch {
+            '(' => depth += 1,
+            ')' => {
+                depth -= 1;
+                if depth < 0 {
+                    return false;
+                }
+            }
+            _ => {}
+        }
+    }
+    depth == 0
+}
+
+fn split(poly: &Poly, content: &Content, factors: &[Poly]) -> Option<Split> {
+    let mut rest = poly.scale(&content.value().inv()?);
+    let monomial = rest.monomial_content();
+    if !monomial.is_one() {
+        rest = rest.div_exact(&Poly::term(monomial.clone(), Radical::one()))?;
+    }
+    let mut powers = Vec::new();
+    for f in factors {
+        let mut e = 0;
+        while rest.degree() >= f.degree() {
+            match rest.div_exact(f) {
+                Some(q) => {
+                    rest = q;
+                    e += 1;
+                }
+                None => break,
+            }
+        }
+        if e > 0 {
+            powers.push((f.clone(), e));
+        }
+    }
+    // The leftover keeps a positive leading coefficient; a sign moves into the constant.
+    Some(Split { monomial, powers, rest })
 }
 
 /// Whether a printed value is a sum at the top level (so it needs parentheses as a factor).
@@ -24,7 +259,7 @@ fn is_sum(text: &str) -> bool {
 }
 
 /// `c1*|a> - c2*|b>` for a vector in the product basis.
-pub(crate) fn ket_sum(vector: &SparseVec<RatFunc>, basis: &Basis, names: &[String]) -> String {
+pub(crate) fn ket_sum(vector: &SparseVec<RatFunc>, basis: &Basis, names: &Names) -> String {
     let mut res = String::new();
     for (k, (idx, coeff)) in vector.entries().iter().enumerate() {
         let ket = basis.ket_label(*idx);
@@ -54,7 +289,7 @@ pub(crate) fn ket_sum(vector: &SparseVec<RatFunc>, basis: &Basis, names: &[Strin
 }
 
 /// A state: the ket label when it is a single product state with coefficient 1, else a ket sum.
-pub(crate) fn state(vector: &SparseVec<RatFunc>, basis: &Basis, names: &[String]) -> String {
+pub(crate) fn state(vector: &SparseVec<RatFunc>, basis: &Basis, names: &Names) -> String {
     match vector.entries() {
         [(idx, c)] if c.is_one() => basis.ket_label(*idx),
         _ => ket_sum(vector, basis, names),
@@ -62,7 +297,7 @@ pub(crate) fn state(vector: &SparseVec<RatFunc>, basis: &Basis, names: &[String]
 }
 
 /// A power series `c0 + c1*lambda + c2*lambda^2 ...` with zero terms left out.
-pub(crate) fn series(coeffs: &[RatFunc], names: &[String]) -> String {
+pub(crate) fn series(coeffs: &[RatFunc], names: &Names) -> String {
     let mut res = String::new();
     for (k, c) in coeffs.iter().enumerate() {
         if c.is_zero() {
@@ -101,7 +336,7 @@ pub(crate) fn series(coeffs: &[RatFunc], names: &[String]) -> String {
 }
 
 /// A polynomial in `x` from its coefficients (`x^0` first), printed from the highest power down.
-pub(crate) fn polynomial(coeffs: &[RatFunc], names: &[String]) -> String {
+pub(crate) fn polynomial(coeffs: &[RatFunc], names: &Names) -> String {
     let mut res = String::new();
     for (k, c) in coeffs.iter().enumerate().rev() {
         if c.is_zero() {
