@@ -257,6 +257,7 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
             "order {order} is beyond what cleave computes (at most {MAX_ORDER})"
         )));
     }
+    crate::exact::take_radicand_overflow();
     let spectrum =
         spectrum::unperturbed_levels(model).map_err(|e| EngineError::Infeasible(e.to_string()))?;
     let working = working_problem(model, &spectrum);
@@ -288,6 +289,14 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
             order as usize,
             &mut ctx,
         ));
+    }
+    if crate::exact::take_radicand_overflow() {
+        return Err(EngineError::Infeasible(format!(
+            "to order {order} this model needs the square root of a product of more primes than \
+             64-bit radicands hold (the square roots of every prime up to about 50 at once); lower \
+             the order or the oscillator cutoffs, or focus on a single level, whose series cleave \
+             computes over the rationals"
+        )));
     }
     Ok(Derivation {
         order,
