@@ -544,3 +544,17 @@ fn printed_values_parse_back() {
         }
     }
 }
+
+/// The files under `docs/` that README shows are what cleave writes today.
+#[test]
+fn docs_show_current_output() {
+    let text = include_str!("../../examples/spin_orbit_field.clv");
+    let (model, _) = cleave::load(text).expect("valid example");
+    let order = model.order().unwrap_or(2);
+    let derivation = engine::derive(&model, &DeriveOptions::new(order)).expect("derivable");
+    let name = "examples/spin_orbit_field.clv";
+    let report = cleave::emit::report(&model, &derivation, name, &Vec::new());
+    let rust = cleave::emit::rust(&model, &derivation, name);
+    assert_eq!(report, include_str!("../../docs/spin_orbit_field_report.txt"));
+    assert_eq!(rust, include_str!("../../docs/spin_orbit_field.rs"));
+}
