@@ -260,32 +260,7 @@ fn is_sum(text: &str) -> bool {
 
 /// `c1*|a> - c2*|b>` for a vector in the product basis.
 pub(crate) fn ket_sum(vector: &SparseVec<RatFunc>, basis: &Basis, names: &Names) -> String {
-    let mut res = String::new();
-    for (k, (idx, coeff)) in vector.entries().iter().enumerate() {
-        let ket = basis.ket_label(*idx);
-        let text = scalar(coeff, names);
-        let negated = scalar(&-coeff.clone(), names);
-        let (sign, magnitude) =
-            if text.starts_with('-') && !is_sum(&negated) { ("-", negated) } else { ("+", text) };
-        if k == 0 {
-            if sign == "-" {
-                res.push('-');
-            }
-        } else {
-            res.push_str(if sign == "-" { " - " } else { " + " });
-        }
-        if magnitude == "1" {
-            res.push_str(&ket);
-        } else if is_sum(&magnitude) {
-            res.push_str(&format!("({magnitude})*{ket}"));
-        } else {
-            res.push_str(&format!("{magnitude}*{ket}"));
-        }
-    }
-    if res.is_empty() {
-        res.push('0');
-    }
-    res
+    signed_sum(vector.entries().iter().map(|(idx, c)| (c, basis.ket_label(*idx))), names)
 }
 
 /// A state: the ket label when it is a single product state with coefficient 1, else a ket sum.
@@ -298,71 +273,49 @@ pub(crate) fn state(vector: &SparseVec<RatFunc>, basis: &Basis, names: &Names) -
 
 /// A power series `c0 + c1*lambda + c2*lambda^2 ...` with zero terms left out.
 pub(crate) fn series(coeffs: &[RatFunc], names: &Names) -> String {
-    let mut res = String::new();
-    for (k, c) in coeffs.iter().enumerate() {
-        if c.is_zero() {
-            continue;
-        }
-        let text = scalar(c, names);
-        let negated = scalar(&-c.clone(), names);
-        let (sign, magnitude) =
-            if text.starts_with('-') && !is_sum(&negated) { ("-", negated) } else { ("+", text) };
-        if res.is_empty() {
-            if sign == "-" {
-                res.push('-');
-            }
-        } else {
-            res.push_str(if sign == "-" { " - " } else { " + " });
-        }
-        let factor = match k {
-            0 => String::new(),
-            1 => "lambda".to_string(),
-            _ => format!("lambda^{k}"),
-        };
-        if factor.is_empty() {
-            res.push_str(&magnitude);
-        } else if magnitude == "1" {
-            res.push_str(&factor);
-        } else if is_sum(&magnitude) {
-            res.push_str(&format!("({magnitude})*{factor}"));
-        } else {
-            res.push_str(&format!("{magnitude}*{factor}"));
-        }
-    }
-    if res.is_empty() {
-        res.push('0');
-    }
-    res
+    signed_sum(coeffs.iter().enumerate().map(|(k, c)| (c, power("lambda", k))), names)
 }
 
 /// A polynomial in `x` from its coefficients (`x^0` first), printed from the highest power down.
 pub(crate) fn polynomial(coeffs: &[RatFunc], names: &Names) -> String {
+    signed_sum(coeffs.iter().enumerate().rev().map(|(k, c)| (c, power("x", k))), names)
+}
+
+/// `""`, `x`, `x^k`.
+fn power(var: &str, k: usize) -> String {
+    match k {
+        0 => String::new(),
+        1 => var.to_string(),
+        _ => format!("{var}^{k}"),
+    }
+}
+
+/// Joins `coefficient*factor` terms with their signs (`a*x - b*y + (c + d)*z`), leaving out zero
+/// coefficients and writing a unit coefficient as the bare factor; `0` when nothing is left.
+fn signed_sum<'a>(terms: impl Iterator<Item = (&'a RatFunc, String)>, names: &Names) -> String {
     let mut res = String::new();
-    for (k, c) in coeffs.iter().enumerate().rev() {
+    for (c, factor) in terms {
         if c.is_zero() {
             continue;
         }
         let text = scalar(c, names);
         let negated = scalar(&-c.clone(), names);
-        let (sign, magnitude) =
-            if text.starts_with('-') && !is_sum(&negated) { ("-", negated) } else { ("+", text) };
-        if res.is_empty() {
-            if sign == "-" {
-                res.push('-');
-            }
+        let (negative, magnitude) = if text.starts_with('-') && !is_sum(&negated) {
+            (true, negated)
         } else {
-            res.push_str(if sign == "-" { " - " } else { " + " });
-        }
-        let power = match k {
-            0 => String::new(),
-            1 => "x".to_string(),
-            _ => format!("x^{k}"),
+            (false, text)
         };
-        res.push_str(&match (power.is_empty(), magnitude.as_str()) {
+        res.push_str(match (res.is_empty(), negative) {
+            (true, true) => "-",
+            (true, false) => "",
+            (false, true) => " - ",
+            (false, false) => " + ",
+        });
+        res.push_str(&match (factor.is_empty(), magnitude.as_str()) {
             (true, _) => magnitude.clone(),
-            (false, "1") => power,
-            (false, m) if is_sum(m) => format!("({m})*{power}"),
-            (false, m) => format!("{m}*{power}"),
+            (false, "1") => factor,
+            (false, m) if is_sum(m) => format!("({m})*{factor}"),
+            (false, m) => format!("{m}*{factor}"),
         });
     }
     if res.is_empty() {
