@@ -237,7 +237,17 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
     }
     let text = emit::check_report(&derivation, &verification, &loaded.name);
     outputs.report_unless_stdout_taken(|| text);
-    outputs.write()
+    outputs.write()?;
+    // A branch whose error does not fall like lambda^(N+1) is a result the user must not trust:
+    // the table says which, and the exit status lets scripts stop.
+    let failed = verification.branches.iter().filter(|b| !b.passed).count();
+    if failed > 0 {
+        return Err(Failure::infeasible(format!(
+            "{failed} of {} branches failed the numeric check; see the table above",
+            verification.branches.len()
+        )));
+    }
+    Ok(())
 }
 
 /// `--order`, else the model's `order`, else [`DEFAULT_ORDER`].

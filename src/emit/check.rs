@@ -33,7 +33,13 @@ pub fn check_report(derivation: &Derivation, verification: &Verification, name: 
         "branch", "slope", "expected", "radius~", "result"
     );
     for b in &verification.branches {
-        let slope = b.slope.map_or("-".to_string(), |s| format!("{s:.2}"));
+        // No slope with a pass means the error stayed at rounding level: the series is exact
+        // there (a branch with no higher terms, say).
+        let slope = match (b.slope, b.passed) {
+            (Some(s), _) => format!("{s:.2}"),
+            (None, true) => "exact".to_string(),
+            (None, false) => "-".to_string(),
+        };
         let radius = b.radius.map_or("-".to_string(), |r| format!("{r:.3e}"));
         let _ = writeln!(
             out,
