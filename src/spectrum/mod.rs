@@ -55,7 +55,7 @@ impl std::fmt::Display for SpectrumError {
 /// different blocks are merged into one level.
 pub fn unperturbed_levels(model: &Model) -> Result<Spectrum, SpectrumError> {
     crate::exact::take_radicand_overflow();
-    let mut res = spectrum_of(model.h0())?;
+    let mut res = spectrum_of(model.h0(), &model.param_names())?;
     let positive: Vec<bool> = model.params().iter().map(|p| p.positive).collect();
     sort_with_signs(&mut res.levels, &positive);
     if crate::exact::take_radicand_overflow() {
@@ -67,7 +67,7 @@ pub fn unperturbed_levels(model: &Model) -> Result<Spectrum, SpectrumError> {
 }
 
 /// The spectrum of any Hermitian operator on the product space (see [`unperturbed_levels`]).
-pub fn spectrum_of(h0: &Operator) -> Result<Spectrum, SpectrumError> {
+pub fn spectrum_of(h0: &Operator, names: &[String]) -> Result<Spectrum, SpectrumError> {
     let n = h0.n_rows();
     let diagonal = h0.is_diagonal();
     let mut levels: Vec<(RatFunc, Vec<SparseVec<RatFunc>>)> = Vec::new();
@@ -91,9 +91,10 @@ pub fn spectrum_of(h0: &Operator) -> Result<Spectrum, SpectrumError> {
                     "cannot find the exact spectrum of H0: a block of {} states has the \
                      characteristic polynomial {} and {}; cleave splits H0 when it is diagonal, \
                      numeric with eigenvalues in Q(i, sqrt 2, sqrt 3, ...), or a sum of commuting \
-                     (symbol x numeric operator) terms",
+                     (symbol x numeric operator) terms; move the terms that do not commute with \
+                     the rest of H0 into V",
                     block.len(),
-                    characteristic_text(&e.characteristic),
+                    characteristic_text(&e.characteristic, names),
                     e.reason
                 ))
             })?;
@@ -202,8 +203,26 @@ fn connected_blocks(matrix: &Operator) -> Vec<Vec<usize>> {
     blocks
 }
 
-fn characteristic_text(coeffs: &[RatFunc]) -> String {
-    let names: Vec<String> = Vec::new();
-    let _ = names;
-    format!("of degree {}", coeffs.len().saturating_sub(1))
+/// `x^2 - a^2 - b^2` for the error message, highest power first.
+fn characteristic_text(coeffs: &[RatFunc], names: &[String]) -> String {
+    let symbols = crate::exact::Symbols { names };
+    let terms: Vec<String> = coeffs
+        .iter()
+        .enumerate()
+        .rev()
+        .filter(|(_, c)| !c.is_zero())
+        .map(|(k, c)| {
+            let power = match k {
+                0 => String::new(),
+                1 => "x".to_string(),
+                _ => format!("x^{k}"),
+            };
+            match (power.is_empty(), c.is_one()) {
+                (true, _) => format!("({})", c.display(symbols)),
+                (false, true) => power,
+                (false, false) => format!("({})*{power}", c.display(symbols)),
+            }
+        })
+        .collect();
+    terms.join(" + ")
 }
