@@ -20,6 +20,9 @@
 //! assert!(report.contains("B^2/D"));
 //! let json = cleave::emit::json(&model, &derivation);
 //! assert!(json.contains("\"split_at\": 2"));
+//! let options = cleave::emit::LatexOptions { standalone: false, at: Vec::new() };
+//! let latex = cleave::emit::latex(&model, &derivation, "axial.clv", &options);
+//! assert!(latex.contains("\\begin{tabular}"));
 //! ```
 #![warn(missing_docs)]
 
