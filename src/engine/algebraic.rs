@@ -1,8 +1,16 @@
-//! Branches whose leading coefficients are roots of an irreducible cubic: the computation moves
-//! to the extension field `K(alpha)` and each root is reported as `root(P, k)` (ENGINE.md §6).
+//! Branches whose leading coefficients are roots of a rational polynomial that square roots
+//! cannot solve: the computation moves to `K(alpha) = K[x]/(P)` and each root is reported as
+//! `root(P, k)` (ENGINE.md §6).
+//!
+//! `P` is what is left of the secular polynomial once its rational roots are divided out. It need
+//! not be irreducible: while no non-zero element turns out to have no inverse, arithmetic modulo
+//! `P` is arithmetic in every `K(alpha_k)` at once (Chinese remainder theorem), so one result holds
+//! for every root; a missing inverse (a zero divisor, meaning `P` factors) stops the attempt and
+//! the stage is reported as not split (the "dynamic evaluation" of ENGINE.md §6, without the
+//! restart on the factors found).
 //!
 //! A stage whose secular matrix has simple eigenvalues that square roots cannot write is solved
-//! with spectral projectors instead of an eigenbasis: the other roots of the cubic do not lie in
+//! with spectral projectors instead of an eigenbasis: the other roots of `P` do not lie in
 //! `K(alpha)`, so no basis of the complement is formed. For a simple eigenvalue `mu` with right
 //! eigenvector `v` and left eigenvector `w` (`w^T v = 1`), Rayleigh–Schrödinger theory reads
 //! `E_m = w^T sum_k A_k Omega_{m-k}` and
@@ -43,7 +51,7 @@ pub(crate) fn simple_eigenvalue_series<E: Field>(
         let v = shifted.get(i, i).clone() - mu;
         shifted.set(i, i, v);
     }
-    let kernel = shifted.null_space();
+    let kernel = shifted.try_null_space()?;
     let [v] = kernel.as_slice() else { return None };
     // w^T x = <v, x> / <v, v> for the metric, since A_0 is self-adjoint.
     let weighted: Vec<E> = v.iter().zip(metric).map(|(x, g)| x.conj() * g).collect();
@@ -90,9 +98,9 @@ pub(crate) fn simple_eigenvalue_series<E: Field>(
 }
 
 /// Splits a stage whose leading matrix is `c M` with a scalar `c` and a numeric `M` whose
-/// characteristic polynomial is rational with simple roots, rational or of one irreducible cubic.
-/// Returns the energy series of every branch; `None` when the stage is of another kind.
-pub(crate) fn cubic_branches(
+/// characteristic polynomial is rational with simple real roots. Returns the energy series of
+/// every branch; `None` when the stage is of another kind or the attempt meets a zero divisor.
+pub(crate) fn algebraic_branches(
     series: &[DenseMatrix<RatFunc>],
     metric: &[RatFunc],
     offset: usize,
@@ -109,23 +117,24 @@ pub(crate) fn cubic_branches(
         return None;
     }
     let rational: Vec<Rational> = poly.rational_roots().into_iter().map(|(r, _)| r).collect();
-    let mut cubic = poly.clone();
+    let mut rest = poly.clone();
     for r in &rational {
-        cubic = cubic.deflate(r)?;
+        rest = rest.deflate(r)?;
     }
-    if cubic.degree() != Some(3) {
+    let degree = rest.degree()?;
+    if degree < 2 {
         return None;
     }
-    let cubic = cubic.monic();
-    let intervals = roots::isolate_real_roots(&cubic);
-    if intervals.len() != 3 {
+    let modulus = rest.monic();
+    let intervals = roots::isolate_real_roots(&modulus);
+    if intervals.len() != degree {
         return None;
     }
     let lifted: Vec<DenseMatrix<Algebraic>> =
         series.iter().map(|m| m.map(|x| Algebraic::constant(x.clone()))).collect();
     let lifted_metric: Vec<Algebraic> =
         metric.iter().map(|g| Algebraic::constant(g.clone())).collect();
-    let alpha = Algebraic::generator(&cubic) * Algebraic::constant(scale.clone());
+    let alpha = Algebraic::generator(&modulus) * Algebraic::constant(scale.clone());
     let in_alpha = simple_eigenvalue_series(&lifted, &lifted_metric, &alpha)?;
 
     let mut res: Vec<Vec<RatFunc>> = Vec::new();
@@ -135,9 +144,9 @@ pub(crate) fn cubic_branches(
     }
     let width = Rational::new(1.into(), num_bigint::BigInt::from(1) << 80).expect("non-zero");
     for (k, interval) in intervals.into_iter().enumerate() {
-        let refined = roots::refine(&cubic, interval, &width);
+        let refined = roots::refine(&modulus, interval, &width);
         let atom =
-            RootAtom { polynomial: cubic.coeffs().to_vec(), index: k + 1, interval: refined };
+            RootAtom { polynomial: modulus.coeffs().to_vec(), index: k + 1, interval: refined };
         let slot = match ctx
             .roots
             .iter()

@@ -6,7 +6,7 @@
 //! eigenspace becomes a model space of its own, with its own effective Hamiltonian (Kato,
 //! Perturbation Theory for Linear Operators, 1966, ch. II §2.3, the reduction process).
 
-use super::algebraic::{cubic_branches, Context};
+use super::algebraic::{algebraic_branches, Context};
 use super::bloch::{wave_operator, Bloch, Problem};
 use super::Scalar;
 use crate::exact::{Field, RatFunc};
@@ -106,7 +106,7 @@ pub(crate) fn branches<F: Scalar>(
         Err(not_split) => {
             let series_rf: Vec<DenseMatrix<RatFunc>> =
                 stage.series.iter().map(|m| m.map(F::to_ratfunc)).collect();
-            if let Some(res) = cubic_branches(&series_rf, &metric_rf, offset, ctx) {
+            if let Some(res) = algebraic_branches(&series_rf, &metric_rf, offset, ctx) {
                 // Each branch stands alone from here; its state is not carried through the
                 // extension field.
                 return Ok(res

@@ -202,6 +202,13 @@ impl<F: Field> DenseMatrix<F> {
     /// A basis of the null space `{x : self x = 0}` by Gauss–Jordan elimination; each basis vector
     /// has a 1 at its free column.
     pub fn null_space(&self) -> Vec<Vec<F>> {
+        self.try_null_space().expect("in a field every non-zero pivot is invertible")
+    }
+
+    /// Like [`DenseMatrix::null_space`], for rings that may have zero divisors (an algebraic
+    /// extension by a polynomial not known to be irreducible): `None` when a non-zero pivot has
+    /// no inverse.
+    pub fn try_null_space(&self) -> Option<Vec<Vec<F>>> {
         let (n_rows, n_cols) = (self.n_rows, self.n_cols);
         let mut m = self.clone();
         let mut pivot_cols = Vec::new();
@@ -218,7 +225,7 @@ impl<F: Field> DenseMatrix<F> {
                     m.data.swap(pivot * n_cols + j, row * n_cols + j);
                 }
             }
-            let inv = m.get(row, col).inv().expect("pivot is non-zero");
+            let inv = m.get(row, col).inv()?;
             for j in 0..n_cols {
                 let v = m.get(row, j).mul_ref(&inv);
                 m.set(row, j, v);
@@ -247,10 +254,11 @@ impl<F: Field> DenseMatrix<F> {
             }
             res.push(v);
         }
-        res
+        Some(res)
     }
 
-    /// The inverse by Gauss–Jordan elimination, `None` when the matrix is singular.
+    /// The inverse by Gauss–Jordan elimination, `None` when the matrix is singular (or, in a ring
+    /// with zero divisors, when a non-zero pivot has no inverse).
     pub fn inverse(&self) -> Option<Self> {
         let n = self.n_rows;
         let mut m = self.clone();
@@ -263,7 +271,7 @@ impl<F: Field> DenseMatrix<F> {
                     inv.data.swap(pivot * n + j, col * n + j);
                 }
             }
-            let p = m.get(col, col).inv().expect("pivot is non-zero");
+            let p = m.get(col, col).inv()?;
             for j in 0..n {
                 let (a, b) = (m.get(col, j).mul_ref(&p), inv.get(col, j).mul_ref(&p));
                 m.set(col, j, a);

@@ -358,6 +358,36 @@ pub fn numeric_eigenspaces(m: &DenseMatrix<Radical>) -> Option<Vec<(Radical, Vec
         }
         return Some(res);
     }
+    // Blocks that do not couple are split on their own: two 2x2 blocks with eigenvalues ±sqrt(2)
+    // and ±sqrt(3) give quadratics, where the whole matrix gives a quartic.
+    let edges =
+        (0..n).flat_map(|i| (0..n).map(move |j| (i, j))).filter(|&(i, j)| !m.get(i, j).is_zero());
+    let blocks = super::blocks_of(n, edges);
+    if blocks.len() > 1 {
+        let mut res: Vec<(Radical, Vec<Vec<Radical>>)> = Vec::new();
+        for block in blocks {
+            let sub = DenseMatrix::from_rows(
+                block
+                    .iter()
+                    .map(|&i| block.iter().map(|&j| m.get(i, j).clone()).collect())
+                    .collect(),
+            );
+            for (mu, vectors) in numeric_eigenspaces(&sub)? {
+                let embedded = vectors.into_iter().map(|v| {
+                    let mut full = vec![Radical::zero(); n];
+                    for (k, x) in block.iter().zip(v) {
+                        full[*k] = x;
+                    }
+                    full
+                });
+                match res.iter_mut().find(|(x, _)| *x == mu) {
+                    Some((_, vs)) => vs.extend(embedded),
+                    None => res.push((mu, embedded.collect())),
+                }
+            }
+        }
+        return Some(res);
+    }
     let roots = polynomial_roots(&m.characteristic_polynomial())?;
     let mut res = Vec::new();
     for mu in roots {

@@ -175,7 +175,12 @@ pub fn known_sign(value: &RatFunc, positive: &[bool]) -> Option<i32> {
 /// Index sets of the blocks of a square matrix (connected components of its non-zero pattern),
 /// each sorted, in order of their smallest index.
 fn connected_blocks(matrix: &Operator) -> Vec<Vec<usize>> {
-    let n = matrix.n_rows();
+    blocks_of(matrix.n_rows(), matrix.triplets().map(|(r, c, _)| (r, c)))
+}
+
+/// Connected components of the graph on `0..n` with the given edges, each sorted, in order of
+/// their smallest index.
+pub(crate) fn blocks_of(n: usize, edges: impl Iterator<Item = (usize, usize)>) -> Vec<Vec<usize>> {
     let mut parent: Vec<usize> = (0..n).collect();
     fn find(parent: &mut [usize], mut i: usize) -> usize {
         while parent[i] != i {
@@ -184,7 +189,7 @@ fn connected_blocks(matrix: &Operator) -> Vec<Vec<usize>> {
         }
         i
     }
-    for (r, c, _) in matrix.triplets() {
+    for (r, c) in edges {
         let (a, b) = (find(&mut parent, r), find(&mut parent, c));
         if a != b {
             parent[a.max(b)] = a.min(b);
