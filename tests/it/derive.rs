@@ -653,3 +653,71 @@ fn every_example_is_snapshotted() {
     found.sort();
     assert_eq!(found, covered);
 }
+
+/// A first-order secular matrix whose characteristic polynomial `x^4 - 2x^3 - 3x^2 + 4x + 1` has
+/// no rational roots and no quadratic factors over the rationals (its roots are not expressible
+/// with square roots of rationals): the branches are written with `root(P, k)`, and their values
+/// are the eigenvalues that a general-purpose library (nalgebra) finds for the same matrix.
+#[test]
+fn quartic_secular_polynomial_splits_with_algebraic_roots() {
+    let (_, derivation) = check_derive(
+        r#"
+space d = levels(A, B, C, D, E)
+H0 = 3*|E><E|
+V = |A><B| + |B><A| + |B><C| + |C><B| + |C><D| + |D><C| + 2*|A><A|
+order 2
+"#,
+        2,
+    );
+    assert_eq!(derivation.roots.len(), 4);
+    assert!(derivation
+        .roots
+        .iter()
+        .all(|r| r.name().starts_with("root(x^4 - 2*x^3 - 3*x^2 + 4*x + 1, ")));
+    let degenerate = &derivation.model_spaces[0];
+    assert_eq!(degenerate.branches.len(), 4);
+    let n_params = derivation.parameters.len();
+    let mut found: Vec<f64> = degenerate
+        .branches
+        .iter()
+        .map(|b| {
+            assert_eq!(b.split_at, Some(1));
+            let symbols: Vec<f64> =
+                derivation.roots.iter().map(|r| r.approximation().to_f64()).collect();
+            let mut values = vec![0.0; n_params];
+            values.extend(symbols);
+            cleave::check::evaluate(&b.energy[1], &values).expect("finite").0
+        })
+        .collect();
+    found.sort_by(f64::total_cmp);
+    let m = nalgebra::DMatrix::from_row_slice(
+        4,
+        4,
+        &[2.0, 1.0, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0, 0.0, 1.0, 0.0],
+    );
+    let mut expected = nalgebra::SymmetricEigen::new(m).eigenvalues.as_slice().to_vec();
+    expected.sort_by(f64::total_cmp);
+    for (f, e) in found.iter().zip(&expected) {
+        assert!((f - e).abs() < 1e-12, "{found:?} vs {expected:?}");
+    }
+}
+
+/// Two uncoupled pairs inside one degenerate level split separately with square roots, and the
+/// second order is the closed form `|<psi|V|E>|^2 / (0 - E_E)` with `psi = (|A> ± |B>)/sqrt(2)`.
+#[test]
+fn uncoupled_pairs_split_with_square_roots() {
+    let (_, derivation) = check_derive(
+        r#"
+space d = levels(A, B, C, D, E)
+H0 = 2*|E><E|
+V = sqrt(2)*(|A><B| + |B><A|) + sqrt(3)*(|C><D| + |D><C|) + |A><E| + |E><A| + |C><E| + |E><C|
+"#,
+        2,
+    );
+    let degenerate = &derivation.model_spaces[0];
+    for first in ["-sqrt(3)", "-sqrt(2)", "sqrt(2)", "sqrt(3)"] {
+        let energy = values(&derivation, &["0", first, "-1/4"]);
+        let branch = branch_with(&derivation, degenerate, &energy);
+        assert_eq!((branch.multiplicity, branch.split_at), (1, Some(1)));
+    }
+}
