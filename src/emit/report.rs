@@ -177,15 +177,22 @@ fn model_space_report(
             );
         }
     }
-    let states: Vec<_> =
-        space.branches.iter().enumerate().filter(|(_, b)| b.state.is_some()).collect();
-    if !states.is_empty() {
+    if space.branches.iter().any(|b| b.state.is_some()) {
         let _ = writeln!(
             out,
             "states (intermediate normalization: corrections are orthogonal to psi^(0)):"
         );
-        for (b, branch) in states {
-            let s = branch.state.as_ref().expect("filtered");
+        for (b, branch) in space.branches.iter().enumerate() {
+            let Some(s) = &branch.state else {
+                // Say why a branch has no state rather than leaving it out silently.
+                let why = if branch.multiplicity > 1 || branch.not_split.is_some() {
+                    "no single state: the branch's group does not split by this order"
+                } else {
+                    "not computed: the branch's energy lies in an algebraic extension (root(P, k))"
+                };
+                let _ = writeln!(out, "  ({}) {why}", b + 1);
+                continue;
+            };
             let _ = writeln!(out, "  ({}) determined to order {}", b + 1, s.determined_to);
             for (k, v) in s.coefficients.iter().enumerate() {
                 let _ = writeln!(out, "      psi^({k}) = {}", text::ket_sum(v, basis, names));
