@@ -1,5 +1,5 @@
-//! The integration suite, one binary: grammar, lowering, derivation checks, properties, emitters,
-//! command line and fuzzing.
+//! The integration suite, one binary: grammar, lowering, model and spectrum checks, derivation
+//! checks, properties, emitters, command line and fuzzing.
 
 mod support;
 
@@ -8,5 +8,6 @@ mod derive;
 mod emit;
 mod fuzz;
 mod grammar;
+mod levels;
 mod lower;
 mod properties;
