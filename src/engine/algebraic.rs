@@ -2,12 +2,14 @@
 //! cannot solve: the computation moves to `K(alpha) = K[x]/(P)` and each root is reported as
 //! `root(P, k)` (ENGINE.md §6).
 //!
-//! `P` is what is left of the secular polynomial once its rational roots are divided out. It need
-//! not be irreducible: while no non-zero element turns out to have no inverse, arithmetic modulo
-//! `P` is arithmetic in every `K(alpha_k)` at once (Chinese remainder theorem), so one result holds
-//! for every root; a missing inverse (a zero divisor, meaning `P` factors) stops the attempt and
-//! the stage is reported as not split (the "dynamic evaluation" of ENGINE.md §6, without the
-//! restart on the factors found).
+//! `P` runs over the irreducible factors over the rationals of what is left of the secular
+//! polynomial once its rational roots are divided out (`exact::roots::rational_factors`);
+//! quadratic factors give square roots instead. A factor irreducible over the rationals may still
+//! factor over the radical field when the stage holds square roots: then some non-zero element has
+//! no inverse, the attempt stops and the stage is reported as not split. While no such zero divisor
+//! appears, arithmetic modulo `P` is arithmetic in every `K(alpha_k)` at once (Chinese remainder
+//! theorem), so one result holds for every root (the "dynamic evaluation" of ENGINE.md §6, without
+//! the restart on the factors found).
 //!
 //! A stage whose secular matrix has simple eigenvalues that square roots cannot write is solved
 //! with spectral projectors instead of an eigenbasis: the other roots of `P` do not lie in
@@ -37,18 +39,24 @@ pub(crate) struct Context {
     pub n_params: u32,
 }
 
-/// The energy series of the simple eigenvalue `mu` of `series[0]` (self-adjoint for `metric`),
-/// to the order of `series`; `None` when `mu` is not a simple eigenvalue.
+/// The energy series of the simple eigenvalue `scale * nu` of `series[0] = scale * numeric`
+/// (self-adjoint for `metric`), to the order of `series`; `None` when it is not a simple
+/// eigenvalue or a zero divisor appears.
+///
+/// The eigenvector and the reduced resolvent come from the numeric matrix alone:
+/// `(mu - A_0)^{-1} = scale^{-1} (nu - numeric)^{-1}` on the range of `Q`, which keeps the
+/// symbols out of the only matrix inversion.
 pub(crate) fn simple_eigenvalue_series<E: Field>(
     series: &[DenseMatrix<E>],
     metric: &[E],
-    mu: &E,
+    scale: &E,
+    numeric: &DenseMatrix<E>,
+    nu: &E,
 ) -> Option<Vec<E>> {
     let d = metric.len();
-    let a0 = &series[0];
-    let mut shifted = a0.clone();
+    let mut shifted = numeric.clone();
     for i in 0..d {
-        let v = shifted.get(i, i).clone() - mu;
+        let v = shifted.get(i, i).clone() - nu;
         shifted.set(i, i, v);
     }
     let kernel = shifted.try_null_space()?;
@@ -60,19 +68,17 @@ pub(crate) fn simple_eigenvalue_series<E: Field>(
     let w: Vec<E> = weighted.into_iter().map(|x| x * &inv_norm).collect();
     let project =
         |x: &[E]| -> E { w.iter().zip(x).fold(E::zero(), |acc, (a, b)| acc + a.clone() * b) };
+    // N = (nu - numeric + v w^T)^{-1}; on the range of Q it inverts nu - numeric.
     let mut m = DenseMatrix::zeros(d, d);
     for (i, vi) in v.iter().enumerate() {
         for (j, wj) in w.iter().enumerate() {
-            let mut x = vi.clone() * wj - a0.get(i, j);
-            if i == j {
-                x += mu;
-            }
+            let x = vi.clone() * wj - shifted.get(i, j);
             m.set(i, j, x);
         }
     }
-    let m_inv = m.inverse()?;
+    let resolvent = m.inverse()?.scale(&scale.inv()?);
     let mut omega: Vec<Vec<E>> = vec![v.clone()];
-    let mut energy = vec![mu.clone()];
+    let mut energy = vec![scale.clone() * nu];
     for order in 1..series.len() {
         let mut y = vec![E::zero(); d];
         for (k, a_k) in series.iter().enumerate().skip(1).take(order) {
@@ -91,7 +97,7 @@ pub(crate) fn simple_eigenvalue_series<E: Field>(
         for (yi, vi) in y.iter_mut().zip(v) {
             *yi -= &along.mul_ref(vi);
         }
-        omega.push(m_inv.mul_vec(&y));
+        omega.push(resolvent.mul_vec(&y));
         energy.push(e);
     }
     Some(energy)
@@ -121,45 +127,74 @@ pub(crate) fn algebraic_branches(
     for r in &rational {
         rest = rest.deflate(r)?;
     }
-    let degree = rest.degree()?;
-    if degree < 2 {
+    if rest.degree()? < 2 {
         return None;
     }
-    let modulus = rest.monic();
-    let intervals = roots::isolate_real_roots(&modulus);
-    if intervals.len() != degree {
-        return None;
+    let mut res: Vec<Vec<RatFunc>> = Vec::new();
+    let mut simple_roots: Vec<RatFunc> = rational.iter().map(RatFunc::from_rational).collect();
+    let mut moduli = Vec::new();
+    // Irreducible factors over the rationals: quadratics have roots in the radical field, the
+    // others each get an extension of their own (so no zero divisor can appear).
+    for factor in roots::rational_factors(&rest)? {
+        match factor.coeffs() {
+            [c0, c1, c2] => {
+                let disc = c1.clone() * c1 - Rational::from_i64(4) * c2 * c0;
+                let root = Radical::sqrt_of(&disc);
+                let half = Rational::ratio(1, 2).expect("2 != 0") * c2.inv()?;
+                for sign in [-1, 1] {
+                    let mu = (Radical::from_rational(&-c1.clone())
+                        + root.clone() * Radical::from_i64(sign))
+                        * Radical::from_rational(&half);
+                    simple_roots.push(RatFunc::constant(mu));
+                }
+            }
+            _ => moduli.push(factor.monic()),
+        }
+    }
+    let numeric_rf = numeric.map(|x| RatFunc::constant(x.clone()));
+    for nu in &simple_roots {
+        res.push(simple_eigenvalue_series(series, metric, &scale, &numeric_rf, nu)?);
     }
     let lifted: Vec<DenseMatrix<Algebraic>> =
         series.iter().map(|m| m.map(|x| Algebraic::constant(x.clone()))).collect();
     let lifted_metric: Vec<Algebraic> =
         metric.iter().map(|g| Algebraic::constant(g.clone())).collect();
-    let alpha = Algebraic::generator(&modulus) * Algebraic::constant(scale.clone());
-    let in_alpha = simple_eigenvalue_series(&lifted, &lifted_metric, &alpha)?;
-
-    let mut res: Vec<Vec<RatFunc>> = Vec::new();
-    for r in &rational {
-        let mu = scale.clone() * RatFunc::from_rational(r);
-        res.push(simple_eigenvalue_series(series, metric, &mu)?);
-    }
+    let lifted_numeric: DenseMatrix<Algebraic> =
+        numeric.map(|x| Algebraic::constant(RatFunc::constant(x.clone())));
+    let lifted_scale = Algebraic::constant(scale.clone());
     let width = Rational::new(1.into(), num_bigint::BigInt::from(1) << 80).expect("non-zero");
-    for (k, interval) in intervals.into_iter().enumerate() {
-        let refined = roots::refine(&modulus, interval, &width);
-        let atom =
-            RootAtom { polynomial: modulus.coeffs().to_vec(), index: k + 1, interval: refined };
-        let slot = match ctx
-            .roots
-            .iter()
-            .position(|a| a.polynomial == atom.polynomial && a.index == atom.index)
-        {
-            Some(slot) => slot,
-            None => {
-                ctx.roots.push(atom);
-                ctx.roots.len() - 1
-            }
-        };
-        let id = ParamId(ctx.n_params + slot as u32);
-        res.push(in_alpha.iter().map(|e| rename_alpha(&e.to_ratfunc(), id)).collect());
+    for modulus in moduli {
+        let degree = modulus.degree()?;
+        let intervals = roots::isolate_real_roots(&modulus);
+        if intervals.len() != degree {
+            return None;
+        }
+        let alpha = Algebraic::generator(&modulus);
+        let in_alpha = simple_eigenvalue_series(
+            &lifted,
+            &lifted_metric,
+            &lifted_scale,
+            &lifted_numeric,
+            &alpha,
+        )?;
+        for (k, interval) in intervals.into_iter().enumerate() {
+            let refined = roots::refine(&modulus, interval, &width);
+            let atom =
+                RootAtom { polynomial: modulus.coeffs().to_vec(), index: k + 1, interval: refined };
+            let slot = match ctx
+                .roots
+                .iter()
+                .position(|a| a.polynomial == atom.polynomial && a.index == atom.index)
+            {
+                Some(slot) => slot,
+                None => {
+                    ctx.roots.push(atom);
+                    ctx.roots.len() - 1
+                }
+            };
+            let id = ParamId(ctx.n_params + slot as u32);
+            res.push(in_alpha.iter().map(|e| rename_alpha(&e.to_ratfunc(), id)).collect());
+        }
     }
     ctx.secular.push(RawSecular {
         order: offset,

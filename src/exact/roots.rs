@@ -87,12 +87,203 @@ pub fn refine(
     (lo, hi)
 }
 
+/// The monic irreducible factors over the rationals of a square-free rational polynomial whose
+/// roots are all real (a Hermitian secular polynomial), in the order found; `None` when the roots
+/// are not all real and simple.
+///
+/// After the substitution `x = y / L` that makes the polynomial monic with integer coefficients,
+/// every monic rational factor has integer coefficients (Gauss's lemma). Each such factor is the
+/// product of `x - r` over some subset of the roots, so the roots are isolated and narrowed, the
+/// elementary symmetric functions of each subset are bracketed by rational intervals, and a subset
+/// whose brackets each hold one integer gives a candidate that exact division confirms or rejects
+/// (the method of, e.g., Cohen, A Course in Computational Algebraic Number Theory, 1993, §3.5,
+/// with real roots in place of p-adic ones). Meant for the small degrees of secular problems: the
+/// number of subsets grows like `2^n`.
+pub fn rational_factors(p: &UniPoly<Rational>) -> Option<Vec<UniPoly<Rational>>> {
+    let p = p.monic();
+    let n = p.degree()?;
+    if n <= 1 {
+        return Some(vec![p]);
+    }
+    // q(y) = L^n p(y / L) is monic with integer coefficients.
+    let lcm = p.coeffs().iter().fold(num_bigint::BigInt::from(1), |acc, c| c.denom_lcm(&acc));
+    let l = Rational::from_bigint(lcm);
+    let q = UniPoly::new(
+        p.coeffs()
+            .iter()
+            .enumerate()
+            .map(|(k, c)| c.clone() * l.pow((n - k) as i32).expect("L > 0"))
+            .collect(),
+    );
+    let intervals = isolate_real_roots(&q);
+    if intervals.len() != n {
+        return None;
+    }
+    let mut bits: u32 = 64;
+    'precision: loop {
+        let width = Rational::new(1.into(), num_bigint::BigInt::from(1) << bits).expect("non-zero");
+        let roots: Vec<(Rational, Rational)> =
+            intervals.iter().map(|iv| refine(&q, iv.clone(), &width)).collect();
+        let mut remaining: Vec<usize> = (0..n).collect();
+        let mut rest = q.clone();
+        let mut factors = Vec::new();
+        let mut degree = 1;
+        while 2 * degree <= remaining.len() {
+            match find_factor(&rest, &roots, &remaining, degree) {
+                Search::Found(subset, factor) => {
+                    remaining.retain(|r| !subset.contains(r));
+                    rest = rest.divrem(&factor).expect("non-zero").0;
+                    factors.push(factor);
+                }
+                Search::None => degree += 1,
+                Search::Ambiguous => {
+                    bits *= 2;
+                    if bits > 4096 {
+                        return None;
+                    }
+                    continue 'precision;
+                }
+            }
+        }
+        factors.push(rest);
+        // Back to x: a factor g(y) of degree d gives L^-d g(L x).
+        let res = factors
+            .into_iter()
+            .map(|g| {
+                let d = g.degree().expect("non-zero");
+                UniPoly::new(
+                    g.coeffs()
+                        .iter()
+                        .enumerate()
+                        .map(|(k, c)| c.clone() * l.pow(k as i32 - d as i32).expect("L > 0"))
+                        .collect(),
+                )
+            })
+            .collect();
+        return Some(res);
+    }
+}
+
+enum Search {
+    Found(Vec<usize>, UniPoly<Rational>),
+    None,
+    Ambiguous,
+}
+
+/// A monic integer factor of `q` of the given degree whose roots are a subset of `remaining`.
+fn find_factor(
+    q: &UniPoly<Rational>,
+    roots: &[(Rational, Rational)],
+    remaining: &[usize],
+    degree: usize,
+) -> Search {
+    let mut subset: Vec<usize> = (0..degree).collect();
+    loop {
+        let chosen: Vec<usize> = subset.iter().map(|&k| remaining[k]).collect();
+        // Coefficients of prod (y - r) as intervals, from y^0 up.
+        let mut coeffs: Vec<(Rational, Rational)> = vec![(Rational::one(), Rational::one())];
+        for &r in &chosen {
+            let (lo, hi) = &roots[r];
+            let mut next = vec![(Rational::zero(), Rational::zero()); coeffs.len() + 1];
+            for (k, (a, b)) in coeffs.iter().enumerate() {
+                // (y - r) * c_k y^k: + c_k y^(k+1) and - r c_k y^k.
+                next[k + 1].0 += a;
+                next[k + 1].1 += b;
+                let products = [a.clone() * lo, a.clone() * hi, b.clone() * lo, b.clone() * hi];
+                let min = products.iter().min().expect("four").clone();
+                let max = products.iter().max().expect("four").clone();
+                next[k].0 -= &max;
+                next[k].1 -= &min;
+            }
+            coeffs = next;
+        }
+        let mut candidate = Vec::with_capacity(coeffs.len());
+        let mut ambiguous = false;
+        let mut possible = true;
+        for (lo, hi) in &coeffs {
+            let first = ceil(lo);
+            let last = floor(hi);
+            if first > last {
+                possible = false;
+                break;
+            }
+            if first != last {
+                ambiguous = true;
+                break;
+            }
+            candidate.push(Rational::from_bigint(first));
+        }
+        if ambiguous {
+            return Search::Ambiguous;
+        }
+        if possible {
+            let g = UniPoly::new(candidate);
+            if q.divrem(&g).is_some_and(|(_, r)| r.is_zero()) {
+                return Search::Found(chosen, g);
+            }
+        }
+        if !next_subset(&mut subset, remaining.len()) {
+            return Search::None;
+        }
+    }
+}
+
+/// The next `k`-subset of `0..n` in lexicographic order; false after the last.
+fn next_subset(subset: &mut [usize], n: usize) -> bool {
+    let k = subset.len();
+    for i in (0..k).rev() {
+        if subset[i] < n - k + i {
+            subset[i] += 1;
+            for j in i + 1..k {
+                subset[j] = subset[j - 1] + 1;
+            }
+            return true;
+        }
+    }
+    false
+}
+
+fn floor(x: &Rational) -> num_bigint::BigInt {
+    num_integer::Integer::div_floor(x.numer(), x.denom())
+}
+
+fn ceil(x: &Rational) -> num_bigint::BigInt {
+    -num_integer::Integer::div_floor(&-x.numer(), x.denom())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
 
     fn q(n: i64) -> Rational {
         Rational::from_i64(n)
+    }
+
+    #[test]
+    fn a_sextic_from_a_six_site_chain_has_two_cubic_factors() {
+        // The path graph on six sites has eigenvalues 2 cos(k pi / 7), k = 1..6; its characteristic
+        // polynomial x^6 - 5x^4 + 6x^2 - 1 is (x^3 + x^2 - 2x - 1)(x^3 - x^2 - 2x + 1)
+        // (a standard result on Chebyshev polynomials of the second kind, U_6(x/2)).
+        let p = UniPoly::new(vec![q(-1), q(0), q(6), q(0), q(-5), q(0), q(1)]);
+        let mut factors: Vec<Vec<Rational>> =
+            rational_factors(&p).expect("real roots").iter().map(|f| f.coeffs().to_vec()).collect();
+        factors.sort();
+        assert_eq!(factors, vec![vec![q(-1), q(-2), q(1), q(1)], vec![q(1), q(-2), q(-1), q(1)]]);
+    }
+
+    #[test]
+    fn factors_with_rational_coefficients_are_found() {
+        // (x^2 - 2)(x^2 - 3/4) has no rational roots but two rational quadratic factors.
+        let p = UniPoly::new(vec![
+            Rational::ratio(3, 2).unwrap(),
+            q(0),
+            Rational::ratio(-11, 4).unwrap(),
+            q(0),
+            q(1),
+        ]);
+        let factors = rational_factors(&p).expect("real roots");
+        assert_eq!(factors.len(), 2);
+        assert!(factors.iter().all(|f| f.degree() == Some(2)));
     }
 
     #[test]

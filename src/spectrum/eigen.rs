@@ -419,13 +419,14 @@ fn polynomial_roots(coeffs: &[Radical]) -> Option<Vec<Radical>> {
                 .expect("a root of the polynomial is one of its square-free part");
             res.push(Radical::from_rational(&root));
         }
-        match rest.coeffs() {
-            [_] => {}
-            [c0, c1, c2] => {
+        if rest.degree().unwrap_or(0) > 0 {
+            // What is left splits over the rationals into factors; quadratic ones have roots in
+            // the radical field, higher ones do not (those stages go to `engine::algebraic`).
+            for factor in crate::exact::roots::rational_factors(&rest)? {
+                let [c0, c1, c2] = factor.coeffs() else { return None };
                 let [c0, c1, c2] = [c0, c1, c2].map(Radical::from_rational);
                 res.extend(quadratic_roots(&c0, &c1, &c2)?);
             }
-            _ => return None,
         }
         return Some(res);
     }

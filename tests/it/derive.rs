@@ -721,3 +721,53 @@ V = sqrt(2)*(|A><B| + |B><A|) + sqrt(3)*(|C><D| + |D><C|) + |A><E| + |E><A| + |C
         assert_eq!((branch.multiplicity, branch.split_at), (1, Some(1)));
     }
 }
+
+/// Six degenerate sites in a chain: the first-order secular polynomial of the path graph,
+/// `x^6 - 5x^4 + 6x^2 - 1`, factors into two irreducible cubics, whose roots are `2 cos(k pi/7)`
+/// (closed form: the path graph's eigenvectors are `v_j = sin(j k pi / 7)`, a standard result).
+/// A shift `s` on the first site enters at second order as `s |v_1|^2 / |v|^2 = (2/7) s sin^2(k
+/// pi / 7)`, which the exact branches must reproduce root by root.
+#[test]
+fn six_site_chain_splits_into_two_cubics() {
+    let (_, derivation) = check_derive(
+        r#"
+param t > 0, s
+space c = levels(S1, S2, S3, S4, S5, S6)
+H0 = 0
+V = t*(|S1><S2| + |S2><S1| + |S2><S3| + |S3><S2| + |S3><S4| + |S4><S3| + |S4><S5| + |S5><S4| + |S5><S6| + |S6><S5|)
+V2 = s*|S1><S1|
+"#,
+        2,
+    );
+    assert_eq!(derivation.roots.len(), 6);
+    let mut moduli: Vec<String> = derivation.roots.iter().map(|r| r.name()).collect();
+    moduli.sort();
+    assert!(moduli[0].starts_with("root(x^3 + x^2 - 2*x - 1, "));
+    assert!(moduli[5].starts_with("root(x^3 - x^2 - 2*x + 1, "));
+    let space = &derivation.model_spaces[0];
+    let mut values = vec![1.0, 1.0];
+    values.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
+    let mut found: Vec<(f64, f64)> = space
+        .branches
+        .iter()
+        .map(|b| {
+            let e1 = cleave::check::evaluate(&b.energy[1], &values).expect("finite").0;
+            let e2 = cleave::check::evaluate(&b.energy[2], &values).expect("finite").0;
+            (e1, e2)
+        })
+        .collect();
+    found.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut expected: Vec<(f64, f64)> = (1..=6)
+        .map(|k| {
+            let angle = k as f64 * std::f64::consts::PI / 7.0;
+            (2.0 * angle.cos(), 2.0 / 7.0 * angle.sin().powi(2))
+        })
+        .collect();
+    expected.sort_by(|a, b| a.0.total_cmp(&b.0));
+    for (f, e) in found.iter().zip(&expected) {
+        assert!(
+            (f.0 - e.0).abs() < 1e-12 && (f.1 - e.1).abs() < 1e-12,
+            "{found:?} vs {expected:?}"
+        );
+    }
+}
