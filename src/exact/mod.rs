@@ -199,6 +199,23 @@ macro_rules! forward_ops {
 }
 pub(crate) use forward_ops;
 
+/// The laws of [`Field`] on three values, for the property tests of every instance; returns the
+/// first law that fails.
+#[cfg(test)]
+pub(crate) fn field_law_failure<F: Field>(a: &F, b: &F, c: &F) -> Option<&'static str> {
+    let checks: [(&'static str, bool); 8] = [
+        ("associative +", (a.clone() + b) + c == a.clone() + &(b.clone() + c)),
+        ("associative *", (a.clone() * b) * c == a.clone() * &(b.clone() * c)),
+        ("commutative +", a.clone() + b == b.clone() + a),
+        ("commutative *", a.clone() * b == b.clone() * a),
+        ("distributive", a.clone() * &(b.clone() + c) == a.clone() * b + a.clone() * c),
+        ("additive inverse", (a.clone() - a).is_zero()),
+        ("multiplicative inverse", a.inv().map_or(a.is_zero(), |inv| (a.clone() * &inv).is_one())),
+        ("conjugation is multiplicative", (a.clone() * b).conj() == a.conj() * b.conj()),
+    ];
+    checks.iter().find(|(_, holds)| !holds).map(|(law, _)| *law)
+}
+
 /// Names used when printing values that mention parameters: `names[p.0]` is the name of `ParamId(p)`.
 #[derive(Clone, Copy, Debug)]
 pub struct Symbols<'a> {

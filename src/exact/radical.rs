@@ -643,18 +643,7 @@ mod tests {
         #![proptest_config(ProptestConfig::with_cases(64))]
         #[test]
         fn field_laws(a in small_radical(), b in small_radical(), c in small_radical()) {
-            prop_assert_eq!(&(&a + &b) + &c, &a + &(&b + &c));
-            prop_assert_eq!(&(&a * &b) * &c, &a * &(&b * &c));
-            prop_assert_eq!(&a + &b, &b + &a);
-            prop_assert_eq!(&a * &b, &b * &a);
-            prop_assert_eq!(&a * &(&b + &c), &(&a * &b) + &(&a * &c));
-            prop_assert!((&a - &a).is_zero());
-            if let Some(inv) = a.inv() {
-                prop_assert!((&a * &inv).is_one());
-            } else {
-                prop_assert!(a.is_zero());
-            }
-            prop_assert_eq!((&a * &b).conj(), a.conj() * b.conj());
+            prop_assert_eq!(crate::exact::field_law_failure(&a, &b, &c), None);
         }
 
         #[test]

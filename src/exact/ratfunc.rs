@@ -432,16 +432,7 @@ mod tests {
         #![proptest_config(ProptestConfig::with_cases(48))]
         #[test]
         fn field_laws(a in small_ratfunc(), b in small_ratfunc(), c in small_ratfunc()) {
-            prop_assert_eq!(&(&a + &b) + &c, &a + &(&b + &c));
-            prop_assert_eq!(&(&a * &b) * &c, &a * &(&b * &c));
-            prop_assert_eq!(&a + &b, &b + &a);
-            prop_assert_eq!(&a * &b, &b * &a);
-            prop_assert_eq!(&a * &(&b + &c), &(&a * &b) + &(&a * &c));
-            prop_assert!((&a - &a).is_zero());
-            match a.inv() {
-                Some(inv) => prop_assert!((&a * &inv).is_one()),
-                None => prop_assert!(a.is_zero()),
-            }
+            prop_assert_eq!(crate::exact::field_law_failure(&a, &b, &c), None);
         }
 
         #[test]

@@ -211,16 +211,7 @@ mod tests {
         #![proptest_config(ProptestConfig::with_cases(64))]
         #[test]
         fn field_laws(a in small_rational(), b in small_rational(), c in small_rational()) {
-            prop_assert_eq!(&(&a + &b) + &c, &a + &(&b + &c));
-            prop_assert_eq!(&(&a * &b) * &c, &a * &(&b * &c));
-            prop_assert_eq!(&a + &b, &b + &a);
-            prop_assert_eq!(&a * &b, &b * &a);
-            prop_assert_eq!(&a * &(&b + &c), &(&a * &b) + &(&a * &c));
-            prop_assert!((&a - &a).is_zero());
-            match a.inv() {
-                Some(inv) => prop_assert!((&a * &inv).is_one()),
-                None => prop_assert!(a.is_zero()),
-            }
+            prop_assert_eq!(crate::exact::field_law_failure(&a, &b, &c), None);
         }
     }
 }

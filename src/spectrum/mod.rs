@@ -68,7 +68,6 @@ pub fn unperturbed_levels(model: &Model) -> Result<Spectrum, SpectrumError> {
 
 /// The spectrum of any Hermitian operator on the product space (see [`unperturbed_levels`]).
 pub fn spectrum_of(h0: &Operator, names: &[String]) -> Result<Spectrum, SpectrumError> {
-    let n = h0.n_rows();
     let diagonal = h0.is_diagonal();
     let mut levels: Vec<(RatFunc, Vec<SparseVec<RatFunc>>)> = Vec::new();
     let mut push = |value: RatFunc, vector: SparseVec<RatFunc>| match levels
@@ -114,7 +113,6 @@ pub fn spectrum_of(h0: &Operator, names: &[String]) -> Result<Spectrum, Spectrum
             eigen::real_sign(&(a.clone() - b).as_constant().expect("constant")).cmp(&0)
         });
     }
-    let _ = n;
     Ok(Spectrum {
         levels: levels.into_iter().map(|(energy, states)| Level { energy, states }).collect(),
         diagonal,
