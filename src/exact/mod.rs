@@ -199,6 +199,51 @@ macro_rules! forward_ops {
 }
 pub(crate) use forward_ops;
 
+/// The term-by-term sum of two sparse term lists sorted by `order` (first term first), dropping
+/// terms that cancel: the addition of both [`Poly`] and [`Radical`].
+pub(crate) fn merge_sum<K: Clone, V: Field>(
+    left: &[(K, V)],
+    right: &[(K, V)],
+    order: impl Fn(&K, &K) -> std::cmp::Ordering,
+    add: impl Fn(&V, &V) -> V,
+) -> Vec<(K, V)> {
+    use std::cmp::Ordering;
+    let mut res = Vec::with_capacity(left.len() + right.len());
+    let (mut a, mut b) = (left.iter().peekable(), right.iter().peekable());
+    loop {
+        match (a.peek(), b.peek()) {
+            (Some((m, c)), Some((n, d))) => match order(m, n) {
+                Ordering::Less => {
+                    res.push((m.clone(), c.clone()));
+                    a.next();
+                }
+                Ordering::Greater => {
+                    res.push((n.clone(), d.clone()));
+                    b.next();
+                }
+                Ordering::Equal => {
+                    let sum = add(c, d);
+                    if !sum.is_zero() {
+                        res.push((m.clone(), sum));
+                    }
+                    a.next();
+                    b.next();
+                }
+            },
+            (Some(term), None) => {
+                res.push((*term).clone());
+                a.next();
+            }
+            (None, Some(term)) => {
+                res.push((*term).clone());
+                b.next();
+            }
+            (None, None) => break,
+        }
+    }
+    res
+}
+
 /// The laws of [`Field`] on three values, for the property tests of every instance; returns the
 /// first law that fails.
 #[cfg(test)]

@@ -474,39 +474,8 @@ impl Poly {
         if self.terms.is_empty() {
             return rhs.clone();
         }
-        let mut res = Vec::with_capacity(self.terms.len() + rhs.terms.len());
-        let (mut left, mut right) = (self.terms.iter().peekable(), rhs.terms.iter().peekable());
-        loop {
-            match (left.peek(), right.peek()) {
-                (Some((m, c)), Some((n, d))) => match m.graded_cmp(n) {
-                    Ordering::Greater => {
-                        res.push((m.clone(), c.clone()));
-                        left.next();
-                    }
-                    Ordering::Less => {
-                        res.push((n.clone(), d.clone()));
-                        right.next();
-                    }
-                    Ordering::Equal => {
-                        let sum = c + d;
-                        if !sum.is_zero() {
-                            res.push((m.clone(), sum));
-                        }
-                        left.next();
-                        right.next();
-                    }
-                },
-                (Some(term), None) => {
-                    res.push((*term).clone());
-                    left.next();
-                }
-                (None, Some(term)) => {
-                    res.push((*term).clone());
-                    right.next();
-                }
-                (None, None) => break,
-            }
-        }
+        // Terms run from the highest monomial down.
+        let res = super::merge_sum(&self.terms, &rhs.terms, |m, n| n.graded_cmp(m), |c, d| c + d);
         Poly { terms: res }
     }
     fn sub_ref(&self, rhs: &Poly) -> Poly {

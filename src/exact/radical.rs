@@ -299,37 +299,7 @@ impl Radical {
         if self.terms.is_empty() {
             return rhs.clone();
         }
-        let mut res = Vec::with_capacity(self.terms.len() + rhs.terms.len());
-        let (mut left, mut right) = (self.terms.iter().peekable(), rhs.terms.iter().peekable());
-        loop {
-            match (left.peek(), right.peek()) {
-                (Some((s, c)), Some((t, d))) => {
-                    if s < t {
-                        res.push((*s, c.clone()));
-                        left.next();
-                    } else if t < s {
-                        res.push((*t, d.clone()));
-                        right.next();
-                    } else {
-                        let sum = c + d;
-                        if !sum.is_zero() {
-                            res.push((*s, sum));
-                        }
-                        left.next();
-                        right.next();
-                    }
-                }
-                (Some(term), None) => {
-                    res.push((*term).clone());
-                    left.next();
-                }
-                (None, Some(term)) => {
-                    res.push((*term).clone());
-                    right.next();
-                }
-                (None, None) => break,
-            }
-        }
+        let res = super::merge_sum(&self.terms, &rhs.terms, i64::cmp, |c, d| c + d);
         Radical { terms: res }
     }
     fn sub_ref(&self, rhs: &Radical) -> Radical {
