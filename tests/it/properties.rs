@@ -386,6 +386,27 @@ proptest! {
     }
 
 
+    /// Every output of a random model is written without a panic, and the numeric check passes:
+    /// the whole pipeline after the engine, on inputs nobody chose.
+    #[test]
+    fn every_output_is_written(text in model_text(), order in 1u32..=3) {
+        let (model, derivation) = check_derive(&text, order);
+        let at = vec![("g".to_string(), cleave::exact::Rational::ratio(1, 3).expect("3 != 0"))];
+        let report = cleave::emit::report(&model, &derivation, "model.clv", &at);
+        let has_space = report.contains("Model space 1");
+        prop_assert!(has_space, "no model space in the report");
+        let json = cleave::emit::json(&model, &derivation);
+        prop_assert!(serde_json::from_str::<serde_json::Value>(&json).is_ok());
+        let options = cleave::emit::LatexOptions { standalone: true, at: at.clone() };
+        let latex = cleave::emit::latex(&model, &derivation, "model.clv", &options);
+        let closes = latex.ends_with("\\end{document}\n");
+        prop_assert!(closes, "the standalone document is not closed");
+        let has_entry = cleave::emit::rust(&model, &derivation, "model.clv").contains("pub fn energy(");
+        prop_assert!(has_entry, "no energy entry point in the Rust module");
+        let checked = cleave::check::verify(&model, &derivation, &cleave::check::CheckOptions { at });
+        prop_assert!(checked.branches.iter().all(|b| b.passed), "{text}\n{checked:?}");
+    }
+
     /// A coefficient of order N+1 that happens to nearly vanish at the chosen g delays the
     /// asymptotic slope, so the check fails only when it fails at two independent values of g:
     /// a wrong coefficient is a non-zero function of g and fails at both.
