@@ -188,7 +188,7 @@ fn model_space_report(
                 let why = if branch.multiplicity > 1 || branch.not_split.is_some() {
                     "no single state: the branch's group does not split by this order"
                 } else {
-                    "not computed: the branch's energy lies in an algebraic extension (root(P, k))"
+                    "not computed: a denominator of the state vanishes at this root of P"
                 };
                 let _ = writeln!(out, "  ({}) {why}", b + 1);
                 continue;

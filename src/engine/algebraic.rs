@@ -40,7 +40,8 @@ pub(crate) struct Context {
 }
 
 /// The energy series of the simple eigenvalue `scale * nu` of `series[0] = scale * numeric`
-/// (self-adjoint for `metric`), to the order of `series`; `None` when it is not a simple
+/// (self-adjoint for `metric`), to the order of `series`, with its eigenvector series in
+/// intermediate normalization (`w^T Omega_m = 0` for `m >= 1`); `None` when it is not a simple
 /// eigenvalue or a zero divisor appears.
 ///
 /// The eigenvector and the reduced resolvent come from the numeric matrix alone:
@@ -52,7 +53,7 @@ pub(crate) fn simple_eigenvalue_series<E: Field>(
     scale: &E,
     numeric: &DenseMatrix<E>,
     nu: &E,
-) -> Option<Vec<E>> {
+) -> Option<(Vec<E>, Vec<Vec<E>>)> {
     let d = metric.len();
     let mut shifted = numeric.clone();
     for i in 0..d {
@@ -100,18 +101,25 @@ pub(crate) fn simple_eigenvalue_series<E: Field>(
         omega.push(resolvent.mul_vec(&y));
         energy.push(e);
     }
-    Some(energy)
+    Some((energy, omega))
+}
+
+/// One branch found by [`algebraic_branches`]: energy and eigenvector series in the stage's
+/// coordinates, with a root of `P` written as its symbol.
+pub(crate) struct SimpleBranch {
+    pub energy: Vec<RatFunc>,
+    pub vector: Vec<Vec<RatFunc>>,
 }
 
 /// Splits a stage whose leading matrix is `c M` with a scalar `c` and a numeric `M` whose
-/// characteristic polynomial is rational with simple real roots. Returns the energy series of
-/// every branch; `None` when the stage is of another kind or the attempt meets a zero divisor.
+/// characteristic polynomial is rational with simple real roots. Returns every branch; `None`
+/// when the stage is of another kind or the attempt meets a zero divisor.
 pub(crate) fn algebraic_branches(
     series: &[DenseMatrix<RatFunc>],
     metric: &[RatFunc],
     offset: usize,
     ctx: &mut Context,
-) -> Option<Vec<Vec<RatFunc>>> {
+) -> Option<Vec<SimpleBranch>> {
     let [(scale, numeric)] = eigen::constant_parts(&series[0]).try_into().ok()?;
     let char_poly: Vec<Rational> = numeric
         .characteristic_polynomial()
@@ -130,7 +138,7 @@ pub(crate) fn algebraic_branches(
     if rest.degree()? < 2 {
         return None;
     }
-    let mut res: Vec<Vec<RatFunc>> = Vec::new();
+    let mut res: Vec<SimpleBranch> = Vec::new();
     let mut simple_roots: Vec<RatFunc> = rational.iter().map(RatFunc::from_rational).collect();
     let mut moduli = Vec::new();
     // Irreducible factors over the rationals: quadratics have roots in the radical field, the
@@ -153,7 +161,8 @@ pub(crate) fn algebraic_branches(
     }
     let numeric_rf = numeric.map(|x| RatFunc::constant(x.clone()));
     for nu in &simple_roots {
-        res.push(simple_eigenvalue_series(series, metric, &scale, &numeric_rf, nu)?);
+        let (energy, vector) = simple_eigenvalue_series(series, metric, &scale, &numeric_rf, nu)?;
+        res.push(SimpleBranch { energy, vector });
     }
     let lifted: Vec<DenseMatrix<Algebraic>> =
         series.iter().map(|m| m.map(|x| Algebraic::constant(x.clone()))).collect();
@@ -170,7 +179,7 @@ pub(crate) fn algebraic_branches(
             return None;
         }
         let alpha = Algebraic::generator(&modulus);
-        let in_alpha = simple_eigenvalue_series(
+        let (in_alpha, vector_in_alpha) = simple_eigenvalue_series(
             &lifted,
             &lifted_metric,
             &lifted_scale,
@@ -193,15 +202,56 @@ pub(crate) fn algebraic_branches(
                 }
             };
             let id = ParamId(ctx.n_params + slot as u32);
-            res.push(in_alpha.iter().map(|e| rename_alpha(&e.to_ratfunc(), id)).collect());
+            let rename = |x: &Algebraic| rename_alpha(&x.to_ratfunc(), id);
+            res.push(SimpleBranch {
+                energy: in_alpha.iter().map(rename).collect(),
+                vector: vector_in_alpha.iter().map(|v| v.iter().map(rename).collect()).collect(),
+            });
         }
     }
     ctx.secular.push(RawSecular {
         order: offset,
         characteristic: series[0].characteristic_polynomial(),
-        roots: res.iter().map(|e| (e[0].clone(), 1)).collect(),
+        roots: res.iter().map(|b| (b.energy[0].clone(), 1)).collect(),
     });
     Some(res)
+}
+
+/// `value`, a rational function in which root symbols of `roots` (ids from `n_params` on) may
+/// appear, reduced so that each root enters as a polynomial of degree below that of its `P`, with
+/// no root in a denominator; `None` when a denominator vanishes at the root (a zero divisor).
+pub(crate) fn reduce_roots(value: &RatFunc, roots: &[RootAtom], n_params: u32) -> Option<RatFunc> {
+    let mut value = value.clone();
+    for (r, atom) in roots.iter().enumerate() {
+        let id = ParamId(n_params + r as u32);
+        if !value.params().contains(&id) {
+            continue;
+        }
+        let modulus = UniPoly::new(atom.polynomial.clone());
+        let as_element = |p: &Poly| -> Algebraic {
+            // Collect the coefficient of each power of the root.
+            let mut by_power: Vec<Vec<(Monomial, Radical)>> = Vec::new();
+            for (m, c) in p.terms() {
+                let power = m.degree_in(id) as usize;
+                if by_power.len() <= power {
+                    by_power.resize(power + 1, Vec::new());
+                }
+                by_power[power].push((m.without(id), c.clone()));
+            }
+            let alpha = Algebraic::generator(&modulus);
+            let mut acc = Algebraic::zero();
+            let mut power = Algebraic::one();
+            for terms in by_power {
+                let coeff = RatFunc::from_poly(Poly::from_terms(terms));
+                acc += &(power.clone() * Algebraic::constant(coeff));
+                power *= &alpha;
+            }
+            acc
+        };
+        let quotient = as_element(value.numer()) * as_element(value.denom()).inv()?;
+        value = rename_alpha(&quotient.to_ratfunc(), id);
+    }
+    Some(value)
 }
 
 /// `value` with the placeholder [`ALPHA`] renamed to `id`.

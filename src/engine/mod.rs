@@ -514,7 +514,15 @@ fn solve_fields(
             }
         }
         if let Ok(raw) = solve_in(&radical, indices, order, ctx) {
-            return to_solved(raw, None, states_to);
+            // A branch written with root(P, k) has its state only in rational functions, where
+            // the root can stand as a symbol: repeat the model space there to get it.
+            let n_params = ctx.n_params;
+            let mentions_root = |b: &RawBranch<Radical>| {
+                b.energy.iter().any(|e| e.params().iter().any(|p| p.0 >= n_params))
+            };
+            if !raw.branches.iter().any(mentions_root) {
+                return to_solved(raw, None, states_to);
+            }
         }
     }
     let raw = solve_in(problem, indices, order, ctx).expect("rational functions hold every value");
@@ -644,9 +652,11 @@ fn solve_model_space(
         .iter()
         .zip(&solved.vectors)
         .map(|(b, vec)| {
-            let state = vec.as_ref().map(|series| {
+            let state = vec.as_ref().and_then(|series| {
                 let product: Vec<SparseVec<RatFunc>> = series.iter().map(to_product).collect();
-                intermediate_normalization(product, (order - b.isolated_at).min(states_to))
+                let state =
+                    intermediate_normalization(product, (order - b.isolated_at).min(states_to));
+                reduce_state_roots(state, &ctx.roots, ctx.n_params)
             });
             Branch {
                 energy: b.energy.clone(),
@@ -681,6 +691,31 @@ fn solve_model_space(
             .collect(),
         notes,
     }
+}
+
+/// A state whose coefficients mention roots of `P` (as free symbols during the computation),
+/// reduced so that each root enters as a polynomial of degree below that of `P`.
+fn reduce_state_roots(
+    state: StateSeries,
+    roots: &[RootAtom],
+    n_params: u32,
+) -> Option<StateSeries> {
+    if roots.is_empty() {
+        return Some(state);
+    }
+    let coefficients = state
+        .coefficients
+        .iter()
+        .map(|v| {
+            let pairs = v
+                .entries()
+                .iter()
+                .map(|(i, x)| Some((*i, algebraic::reduce_roots(x, roots, n_params)?)))
+                .collect::<Option<Vec<_>>>()?;
+            Some(SparseVec::from_pairs(pairs))
+        })
+        .collect::<Option<Vec<_>>>()?;
+    Some(StateSeries { coefficients, determined_to: state.determined_to })
 }
 
 /// Rescales `psi(lambda)` so that `<psi0|psi(lambda)> = <psi0|psi0>` and keeps orders `0..=keep`.

@@ -107,15 +107,25 @@ pub(crate) fn branches<F: Scalar>(
             let series_rf: Vec<DenseMatrix<RatFunc>> =
                 stage.series.iter().map(|m| m.map(F::to_ratfunc)).collect();
             if let Some(res) = algebraic_branches(&series_rf, &metric_rf, offset, ctx) {
-                // Each branch stands alone from here; its state is not carried through the
-                // extension field.
+                // Each branch stands alone from here. Its state carries the root's symbol, which
+                // only rational functions hold; other fields leave it out (and `solve_fields`
+                // repeats the model space in rational functions to get it).
                 return Ok(res
                     .into_iter()
-                    .map(|energy| RawBranch {
-                        energy,
+                    .map(|b| RawBranch {
+                        energy: b.energy,
                         multiplicity: 1,
                         split_at: Some(offset),
-                        vector: None,
+                        vector: b
+                            .vector
+                            .iter()
+                            .map(|v| {
+                                v.iter()
+                                    .map(F::from_ratfunc)
+                                    .collect::<Option<Vec<F>>>()
+                                    .map(dense_to_sparse)
+                            })
+                            .collect::<Option<Vec<_>>>(),
                         isolated_at: offset,
                         not_split: None,
                     })

@@ -424,3 +424,98 @@ proptest! {
         }
     }
 }
+
+/// The largest `|((H(lambda) - E(lambda)) psi(lambda))_i|` over the product basis, with every
+/// value evaluated at `symbols` (the parameters, then the algebraic roots).
+fn state_residual(
+    model: &Model,
+    energy: &[RatFunc],
+    state: &[cleave::linalg::SparseVec<RatFunc>],
+    lambda: f64,
+    symbols: &[f64],
+) -> f64 {
+    let num = |x: &RatFunc| evaluate(x, symbols).expect("finite at these values");
+    let n = model.basis().dimension();
+    // psi(lambda) as complex components.
+    let mut psi = vec![(0.0, 0.0); n];
+    for (k, v) in state.iter().enumerate() {
+        let w = lambda.powi(k as i32);
+        for (i, x) in v.entries() {
+            let (re, im) = num(x);
+            psi[*i].0 += w * re;
+            psi[*i].1 += w * im;
+        }
+    }
+    let e: f64 = energy.iter().rev().fold(0.0, |acc, c| acc * lambda + num(c).0);
+    let mut res: Vec<(f64, f64)> = psi.iter().map(|(re, im)| (-e * re, -e * im)).collect();
+    let terms = std::iter::once(model.h0()).chain(model.perturbations());
+    for (k, op) in terms.enumerate() {
+        let w = lambda.powi(k as i32);
+        for (r, c, x) in op.triplets() {
+            let (a, b) = num(x);
+            let (p, q) = psi[c];
+            res[r].0 += w * (a * p - b * q);
+            res[r].1 += w * (a * q + b * p);
+        }
+    }
+    res.iter().map(|(re, im)| re.hypot(*im)).fold(0.0, f64::max)
+}
+
+/// Every reported state satisfies the eigenvalue equation to its order: the residual
+/// `(H(lambda) - E(lambda)) psi(lambda)` of a state determined to order K falls like
+/// `lambda^(K+1)` (checked by the ratio at two small lambda), or sits at rounding level.
+fn check_states(model: &Model, derivation: &Derivation, g_value: f64) -> Result<(), String> {
+    let mut symbols: Vec<f64> = model.params().iter().map(|_| g_value).collect();
+    symbols.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
+    for space in &derivation.model_spaces {
+        for b in &space.branches {
+            let Some(state) = &b.state else { continue };
+            let k = state.determined_to as i32;
+            let (l1, l2) = (4e-3, 2e-3);
+            let r1 = state_residual(model, &b.energy, &state.coefficients, l1, &symbols);
+            let r2 = state_residual(model, &b.energy, &state.coefficients, l2, &symbols);
+            if r1 < 1e-11 && r2 < 1e-11 {
+                continue;
+            }
+            let slope = (r1 / r2).ln() / (l1 / l2).ln();
+            if slope < f64::from(k + 1) - 0.3 {
+                return Err(format!("residual slope {slope:.2} < {} (r = {r1:e}, {r2:e})", k + 1));
+            }
+        }
+    }
+    Ok(())
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(24))]
+
+    /// States of random models solve the eigenvalue equation to the order they are reported.
+    #[test]
+    fn states_solve_the_eigenvalue_equation(text in model_text(), order in 1u32..=3, g in 0.5f64..2.0) {
+        let (model, derivation) = check_derive(&text, order);
+        if let Err(why) = check_states(&model, &derivation, g) {
+            panic!("{why}\n{text}");
+        }
+    }
+}
+
+/// The states of the bundled examples, including the three-dot example whose states carry
+/// `root(P, k)`, solve the eigenvalue equation to the order they are reported.
+#[test]
+fn example_states_solve_the_eigenvalue_equation() {
+    for name in
+        ["dot_trimer", "spin_orbit_field", "qubit_resonator", "axial_spin", "lambda_three_level"]
+    {
+        let path = format!("{}/examples/{name}.clv", env!("CARGO_MANIFEST_DIR"));
+        let text = std::fs::read_to_string(path).expect("example exists");
+        let (model, derivation) = check_derive(&text, 3);
+        assert!(derivation
+            .model_spaces
+            .iter()
+            .flat_map(|s| &s.branches)
+            .any(|b| b.state.is_some()));
+        if let Err(why) = check_states(&model, &derivation, 0.7) {
+            panic!("{name}: {why}");
+        }
+    }
+}
