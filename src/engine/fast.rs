@@ -5,15 +5,16 @@
 //! `Omega_m = R (sum_k V_k Omega_{m-k} - sum_{j=1..m-1} E_{m-j} Omega_j)` with `R` the reduced
 //! resolvent. Every vector is kept as integer numerators over one common denominator, so the
 //! inner loops are big-integer multiply–adds with no gcd; each vector is reduced once, by its
-//! content (ENGINE.md §8).
+//! content (ENGINE.md §8). [`rationalize`] finds the diagonal rescaling that makes a numeric
+//! problem rational in the first place.
 
 use num_bigint::BigInt;
 use num_integer::Integer;
 use num_traits::{One, Signed, Zero};
 
 use super::bloch::{Bloch, Problem};
-use crate::exact::{Field, Rational};
-use crate::linalg::{DenseMatrix, SparseVec};
+use crate::exact::{Field, Radical, Rational, SquareRoot};
+use crate::linalg::{DenseMatrix, SparseMatrix, SparseVec};
 
 /// A sparse vector `num / den` with integer entries.
 struct IntVec {
@@ -163,6 +164,65 @@ pub(crate) fn rayleigh_schrodinger(
         .map(|m| if m == 0 { DenseMatrix::identity(1) } else { DenseMatrix::zeros(1, 1) })
         .collect();
     Bloch { model: vec![p], omega, hermitian: bloch.clone(), bloch, s_inv_half }
+}
+
+/// A diagonal similarity `A'_k = D^{-1} A_k D` that makes every coupling rational, found by
+/// walking the coupling graph from each component's first state (ENGINE.md §8: it leaves every
+/// branch unchanged). `D = diag(sqrt(r_i))` with rational `r_i > 0`, returned as the `r_i`; a
+/// coupling `c*sqrt(s)` from `i` to `j` becomes `c*sqrt(s r_j / r_i)`, which must be rational.
+/// `None` when a coupling is not a single real radical or a cycle disagrees.
+pub(crate) fn rationalize(
+    problem: &Problem<Radical>,
+) -> Option<(Problem<Rational>, Vec<Rational>)> {
+    let n = problem.energies.len();
+    let mut squares: Vec<Option<Rational>> = vec![None; n];
+    let mut neighbors: Vec<Vec<(usize, i64)>> = vec![Vec::new(); n];
+    let single = |v: &Radical| -> Option<(i64, Rational)> {
+        match v.terms() {
+            [(s, c)] if *s > 0 => Some((*s, c.clone())),
+            _ => None,
+        }
+    };
+    for term in &problem.terms {
+        for (i, j, v) in term.triplets() {
+            let (s, _) = single(v)?;
+            if i != j {
+                neighbors[i].push((j, s));
+            }
+        }
+    }
+    for root in 0..n {
+        if squares[root].is_some() {
+            continue;
+        }
+        squares[root] = Some(Rational::one());
+        let mut stack = vec![root];
+        while let Some(i) = stack.pop() {
+            let r_i = squares[i].clone().expect("visited");
+            for (j, s) in &neighbors[i] {
+                if squares[*j].is_none() {
+                    // d_j = d_i / sqrt(s) makes this coupling rational.
+                    squares[*j] = Some(r_i.clone() * Rational::from_i64(*s).inv()?);
+                    stack.push(*j);
+                }
+            }
+        }
+    }
+    let squares: Vec<Rational> = squares.into_iter().collect::<Option<_>>()?;
+    let mut terms = Vec::new();
+    for term in &problem.terms {
+        let mut triplets = Vec::new();
+        for (i, j, v) in term.triplets() {
+            let (s, c) = single(v)?;
+            let ratio = Rational::from_i64(s) * &squares[j] * squares[i].inv()?;
+            triplets.push((i, j, c * ratio.sqrt()?));
+        }
+        terms.push(SparseMatrix::from_triplets(n, n, triplets));
+    }
+    let energies = problem.energies.iter().map(Radical::as_rational).collect::<Option<_>>()?;
+    // The metric only enters the Hermitian form, which one-state model spaces skip.
+    let metric = (0..n).map(|_| Rational::one()).collect();
+    Some((Problem { energies, metric, terms }, squares))
 }
 
 #[cfg(test)]

@@ -20,13 +20,14 @@
 mod algebraic;
 mod bloch;
 mod fast;
+mod notes;
 mod split;
 
 use std::collections::BTreeSet;
 
 use crate::exact::{Field, Radical, RatFunc, Rational, SquareRoot};
 use crate::linalg::{DenseMatrix, SparseMatrix, SparseVec};
-use crate::model::{Model, SpaceKind};
+use crate::model::Model;
 use crate::spectrum::{self, Spectrum};
 use algebraic::Context;
 use bloch::Problem;
@@ -505,7 +506,7 @@ fn solve_fields(
     let problem = &working.problem;
     if let Some(radical) = try_convert::<Radical>(problem) {
         if indices.len() == 1 {
-            if let Some((rational, squares)) = rationalize(&radical) {
+            if let Some((rational, squares)) = fast::rationalize(&radical) {
                 if let Ok(raw) = solve_one_state(&rational, indices[0], order) {
                     let anchor = squares[indices[0]].inv().expect("non-zero scale");
                     let rel: Vec<Rational> = squares.iter().map(|s| s.clone() * &anchor).collect();
@@ -527,63 +528,6 @@ fn solve_fields(
     }
     let raw = solve_in(problem, indices, order, ctx).expect("rational functions hold every value");
     to_solved(raw, None, states_to)
-}
-
-/// A diagonal similarity `A'_k = D^{-1} A_k D` that makes every coupling rational, found by
-/// walking the coupling graph from each component's first state (ENGINE.md §8: it leaves every
-/// branch unchanged). `D = diag(sqrt(r_i))` with rational `r_i > 0`, returned as the `r_i`; a
-/// coupling `c*sqrt(s)` from `i` to `j` becomes `c*sqrt(s r_j / r_i)`, which must be rational.
-/// `None` when a coupling is not a single real radical or a cycle disagrees.
-fn rationalize(problem: &Problem<Radical>) -> Option<(Problem<Rational>, Vec<Rational>)> {
-    let n = problem.energies.len();
-    let mut squares: Vec<Option<Rational>> = vec![None; n];
-    let mut neighbors: Vec<Vec<(usize, i64)>> = vec![Vec::new(); n];
-    let single = |v: &Radical| -> Option<(i64, Rational)> {
-        match v.terms() {
-            [(s, c)] if *s > 0 => Some((*s, c.clone())),
-            _ => None,
-        }
-    };
-    for term in &problem.terms {
-        for (i, j, v) in term.triplets() {
-            let (s, _) = single(v)?;
-            if i != j {
-                neighbors[i].push((j, s));
-            }
-        }
-    }
-    for root in 0..n {
-        if squares[root].is_some() {
-            continue;
-        }
-        squares[root] = Some(Rational::one());
-        let mut stack = vec![root];
-        while let Some(i) = stack.pop() {
-            let r_i = squares[i].clone().expect("visited");
-            for (j, s) in &neighbors[i] {
-                if squares[*j].is_none() {
-                    // d_j = d_i / sqrt(s) makes this coupling rational.
-                    squares[*j] = Some(r_i.clone() * Rational::from_i64(*s).inv()?);
-                    stack.push(*j);
-                }
-            }
-        }
-    }
-    let squares: Vec<Rational> = squares.into_iter().collect::<Option<_>>()?;
-    let mut terms = Vec::new();
-    for term in &problem.terms {
-        let mut triplets = Vec::new();
-        for (i, j, v) in term.triplets() {
-            let (s, c) = single(v)?;
-            let ratio = Rational::from_i64(s) * &squares[j] * squares[i].inv()?;
-            triplets.push((i, j, c * ratio.sqrt()?));
-        }
-        terms.push(SparseMatrix::from_triplets(n, n, triplets));
-    }
-    let energies = problem.energies.iter().map(Radical::as_rational).collect::<Option<_>>()?;
-    // The metric only enters the Hermitian form, which one-state model spaces skip.
-    let metric = (0..n).map(|_| Rational::one()).collect();
-    Some((Problem { energies, metric, terms }, squares))
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -671,7 +615,7 @@ fn solve_model_space(
             }
         })
         .collect();
-    let notes = truncation_notes(model, working, &solved, order);
+    let notes = notes::truncation_notes(model, working, &solved, order);
     ModelSpace {
         unperturbed: levels.iter().map(|&l| spectrum.levels[l].energy.clone()).collect(),
         basis,
@@ -742,53 +686,6 @@ fn intermediate_normalization(series: Vec<SparseVec<RatFunc>>, keep: usize) -> S
         res = res.iter().map(|v| v.scale(&inv_root)).collect();
     }
     StateSeries { coefficients: res, determined_to: keep as u32 }
-}
-
-/// Warns when the wave operator came close enough to the top of a truncated oscillator that the
-/// cut can have changed a coefficient (ENGINE.md §8; the states within the coupling range of the
-/// top lack the couplings of the untruncated operator).
-fn truncation_notes(model: &Model, working: &Working, solved: &Solved, order: usize) -> Vec<Note> {
-    let basis = model.basis();
-    let mut notes = Vec::new();
-    for (space_idx, space) in basis.spaces().iter().enumerate() {
-        let SpaceKind::Oscillator { n_states } = space.kind else { continue };
-        // Coupling range of the perturbation in this factor.
-        let mut range = 0usize;
-        for v in model.perturbations() {
-            for (r, c, _) in v.triplets() {
-                let (a, b) = (basis.factors(r)[space_idx], basis.factors(c)[space_idx]);
-                range = range.max(a.abs_diff(b));
-            }
-        }
-        if range == 0 {
-            continue;
-        }
-        let reach_of = |working_idx: &usize| -> usize {
-            working.columns[*working_idx]
-                .entries()
-                .iter()
-                .map(|(p, _)| basis.factors(*p)[space_idx])
-                .max()
-                .unwrap_or(0)
-        };
-        let reach: Vec<usize> = solved
-            .omega_support
-            .iter()
-            .map(|s| s.iter().map(reach_of).max().unwrap_or(0))
-            .collect();
-        let top = n_states - 1;
-        // Energy order m uses Omega_0 .. Omega_{m-1}; it is safe while they stay `range` below top.
-        let first_bad = (0..order).find(|&m| reach[m] + range > top);
-        if let Some(m) = first_bad {
-            notes.push(Note::Truncation {
-                space: space.name.clone(),
-                n_states,
-                first_affected: (m + 1) as u32,
-                sufficient: reach[0] + range * (order + 1) + 1,
-            });
-        }
-    }
-    notes
 }
 
 #[cfg(test)]
