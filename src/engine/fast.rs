@@ -8,6 +8,8 @@
 //! content (ENGINE.md §8). [`rationalize`] finds the diagonal rescaling that makes a numeric
 //! problem rational in the first place.
 
+use std::collections::BTreeSet;
+
 use num_bigint::BigInt;
 use num_integer::Integer;
 use num_traits::{One, Signed, Zero};
@@ -38,12 +40,14 @@ fn integer_columns(term: &crate::linalg::SparseMatrix<Rational>) -> IntColumns {
 }
 
 /// The one-state wave operator of `problem` for state `p` to `order`, as `bloch::wave_operator`
-/// would return it.
+/// would return it but with `Omega_m` only for `m <= keep` (turning every vector into reduced
+/// rationals costs a gcd per entry), and the indices every `Omega_m` reaches.
 pub(crate) fn rayleigh_schrodinger(
     problem: &Problem<Rational>,
     p: usize,
     order: usize,
-) -> Bloch<Rational> {
+    keep: usize,
+) -> (Bloch<Rational>, Vec<BTreeSet<usize>>) {
     let n = problem.energies.len();
     let terms: Vec<IntColumns> = problem.terms.iter().map(integer_columns).collect();
     // Gaps E_p - E_i as reduced fractions a_i / b_i (None inside the level of p).
@@ -67,13 +71,20 @@ pub(crate) fn rayleigh_schrodinger(
         let v_terms: Vec<(usize, &IntColumns)> =
             terms.iter().enumerate().take(m).map(|(k, t)| (m - k - 1, t)).collect();
         let mut lcm = BigInt::one();
+        // Denominators mostly divide the running lcm already; a remainder is cheaper than the
+        // binary gcd that lcm runs on numbers of this size.
+        let mut include = |d: BigInt| {
+            if !(&lcm % &d).is_zero() {
+                lcm = lcm.lcm(&d);
+            }
+        };
         for (prev, t) in &v_terms {
-            lcm = lcm.lcm(&(&t.den * &omega[*prev].den));
+            include(&t.den * &omega[*prev].den);
         }
         for j in 1..m {
             let e = &energies[m - j];
             if !e.is_zero() {
-                lcm = lcm.lcm(&(e.denom() * &omega[j].den));
+                include(e.denom() * &omega[j].den);
             }
         }
         let mut add = |i: usize, value: BigInt, acc: &mut Vec<BigInt>| {
@@ -116,7 +127,6 @@ pub(crate) fn rayleigh_schrodinger(
             }
         }
         let mut entries = Vec::with_capacity(support.len());
-        let mut content = BigInt::zero();
         for &i in &support {
             touched[i] = false;
             let x = std::mem::take(&mut acc[i]);
@@ -125,12 +135,19 @@ pub(crate) fn rayleigh_schrodinger(
             }
             let Some((a, b)) = &gaps[i] else { continue };
             let y = x * b * (&gap_lcm / a);
-            content = content.gcd(&y);
             entries.push((i, y));
         }
         support.clear();
         let mut den = lcm * gap_lcm;
-        let g = content.gcd(&den);
+        // The common factor of numerators and denominator, found from the denominator down so
+        // that it stops as soon as it reaches 1.
+        let mut g = den.clone();
+        for (_, y) in &entries {
+            if g.is_one() {
+                break;
+            }
+            g = g.gcd(y);
+        }
         if !g.is_one() && !g.is_zero() {
             for (_, y) in &mut entries {
                 *y /= &g;
@@ -146,8 +163,11 @@ pub(crate) fn rayleigh_schrodinger(
         omega.push(IntVec { entries, den });
         energies.push(e_m);
     }
+    let reach: Vec<BTreeSet<usize>> =
+        omega.iter().map(|v| v.entries.iter().map(|(i, _)| *i).collect()).collect();
     let omega = omega
         .into_iter()
+        .take(keep + 1)
         .map(|v| {
             let den = v.den;
             vec![SparseVec::from_pairs(
@@ -163,7 +183,7 @@ pub(crate) fn rayleigh_schrodinger(
     let s_inv_half = (0..=order)
         .map(|m| if m == 0 { DenseMatrix::identity(1) } else { DenseMatrix::zeros(1, 1) })
         .collect();
-    Bloch { model: vec![p], omega, hermitian: bloch.clone(), bloch, s_inv_half }
+    (Bloch { model: vec![p], omega, hermitian: bloch.clone(), bloch, s_inv_half }, reach)
 }
 
 /// A diagonal similarity `A'_k = D^{-1} A_k D` that makes every coupling rational, found by
@@ -232,7 +252,7 @@ mod tests {
     #[test]
     fn agrees_with_the_general_recursion() {
         let problem = super::super::bloch::tests::quartic_pub(40);
-        let fast = rayleigh_schrodinger(&problem, 0, 8);
+        let (fast, _) = rayleigh_schrodinger(&problem, 0, 8, 8);
         let general = super::super::bloch::wave_operator(&problem, &[0], 8);
         assert_eq!(fast.bloch, general.bloch);
         assert_eq!(fast.omega, general.omega);

@@ -392,6 +392,8 @@ struct RawSpace<F> {
     secular: Vec<RawSecular>,
     /// Branch vectors in working coordinates.
     vectors: Vec<Option<Vec<SparseVec<F>>>>,
+    /// The indices each `Omega_m` reaches, `m = 0..=N` (for the truncation caution).
+    omega_support: Vec<BTreeSet<usize>>,
 }
 
 fn solve_in<F: Scalar>(
@@ -408,7 +410,18 @@ fn solve_in<F: Scalar>(
     ctx.secular.clear();
     let raw = branches(stage, 0, ctx)?;
     let vectors = raw.iter().map(|b| b.vector.as_ref().map(|c| lift(&bloch, c))).collect();
-    Ok(RawSpace { bloch, branches: raw, secular: std::mem::take(&mut ctx.secular), vectors })
+    let omega_support = bloch
+        .omega
+        .iter()
+        .map(|cols| cols.iter().flat_map(|c| c.entries().iter().map(|(i, _)| *i)).collect())
+        .collect();
+    Ok(RawSpace {
+        bloch,
+        branches: raw,
+        secular: std::mem::take(&mut ctx.secular),
+        vectors,
+        omega_support,
+    })
 }
 
 /// A one-state model space over the rationals: the fraction-free recursion of `fast`.
@@ -416,8 +429,9 @@ fn solve_one_state(
     problem: &Problem<Rational>,
     p: usize,
     order: usize,
+    states_to: usize,
 ) -> Result<RawSpace<Rational>, FieldTooSmall> {
-    let bloch = fast::rayleigh_schrodinger(problem, p, order);
+    let (bloch, omega_support) = fast::rayleigh_schrodinger(problem, p, order, states_to);
     let energy = bloch.bloch.iter().map(|m| m.get(0, 0).to_ratfunc()).collect();
     let vectors = vec![Some(bloch.omega.iter().map(|cols| cols[0].clone()).collect())];
     let branch = RawBranch {
@@ -428,7 +442,7 @@ fn solve_one_state(
         isolated_at: 0,
         not_split: None,
     };
-    Ok(RawSpace { bloch, branches: vec![branch], secular: Vec::new(), vectors })
+    Ok(RawSpace { bloch, branches: vec![branch], secular: Vec::new(), vectors, omega_support })
 }
 
 fn try_convert<F: Scalar>(problem: &Problem<RatFunc>) -> Option<Problem<F>> {
@@ -464,12 +478,7 @@ fn to_solved<F: Scalar>(
             Some(s) => v.map(|i, x| x.to_ratfunc() * RatFunc::constant(Radical::sqrt_of(&s[i]))),
         }
     };
-    let omega_support = raw
-        .bloch
-        .omega
-        .iter()
-        .map(|cols| cols.iter().flat_map(|c| c.entries().iter().map(|(i, _)| *i)).collect())
-        .collect();
+    let omega_support = raw.omega_support;
     Solved {
         bloch_h: raw.bloch.bloch.iter().map(|m| m.map(F::to_ratfunc)).collect(),
         hermitian: raw.bloch.hermitian.iter().map(|m| m.map(F::to_ratfunc)).collect(),
@@ -507,7 +516,7 @@ fn solve_fields(
     if let Some(radical) = try_convert::<Radical>(problem) {
         if indices.len() == 1 {
             if let Some((rational, squares)) = fast::rationalize(&radical) {
-                if let Ok(raw) = solve_one_state(&rational, indices[0], order) {
+                if let Ok(raw) = solve_one_state(&rational, indices[0], order, states_to) {
                     let anchor = squares[indices[0]].inv().expect("non-zero scale");
                     let rel: Vec<Rational> = squares.iter().map(|s| s.clone() * &anchor).collect();
                     return to_solved(raw, Some(&rel), states_to);
