@@ -136,7 +136,7 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
             let scale = coeffs.iter().take(2).map(|c| c.abs()).fold(1.0, f64::max);
             let slope = fit_slope(&samples, scale);
             let expected_slope = known + 1;
-            let noise_only = samples.iter().all(|(_, e)| *e < 1e-10 * scale);
+            let noise_only = samples.iter().all(|(_, e)| *e < 1e-12 * scale);
             // A steeper slope only means the next coefficient is small at these values.
             let passed = noise_only || slope.is_some_and(|m| m > f64::from(expected_slope) - 0.5);
             branches.push(BranchCheck {
@@ -154,11 +154,11 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
 }
 
 /// Least-squares slope of `log(error)` against `log(lambda)` over the smallest `lambda` whose error
-/// still lies well above rounding (1e-10 of the coefficient scale): the asymptotic regime, where
+/// still lies well above rounding (1e-12 of the energy scale): the asymptotic regime, where
 /// the first neglected order dominates. At most six points are used, at least three.
 fn fit_slope(samples: &[(f64, f64)], scale: f64) -> Option<f64> {
     let mut above_noise: Vec<(f64, f64)> =
-        samples.iter().filter(|(_, e)| *e > 1e-10 * scale).copied().collect();
+        samples.iter().filter(|(_, e)| *e > 1e-12 * scale).copied().collect();
     above_noise.sort_by(|a, b| a.0.total_cmp(&b.0));
     let points: Vec<(f64, f64)> =
         above_noise.iter().take(6).map(|(l, e)| (l.ln(), e.ln())).collect();

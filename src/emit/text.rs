@@ -113,9 +113,26 @@ pub(crate) fn scalar(value: &RatFunc, names: &Names) -> String {
     factored(value, names).unwrap_or_else(|| value.display(symbols).to_string())
 }
 
-/// `numer/denom` with each side split into a rational constant, a monomial and powers of the
-/// known factors; `None` when that gains nothing over the expanded form.
-fn factored(value: &RatFunc, names: &Names) -> Option<String> {
+/// A value written as `sign * constant * sqrt(radicand) * prod numer / prod denom`, where each
+/// product runs over polynomials with powers: a monomial, powers of known energy differences, and
+/// what is left.
+pub(crate) struct Factored {
+    /// Whether the value is negative as written.
+    pub negative: bool,
+    /// The positive rational constant.
+    pub constant: Rational,
+    /// The square-free radicand multiplying the numerator (1 for none).
+    pub radicand: i64,
+    /// Numerator factors with their powers, each with a positive leading coefficient.
+    pub numer: Vec<(Poly, u32)>,
+    /// Denominator factors with their powers.
+    pub denom: Vec<(Poly, u32)>,
+}
+
+/// `value` factored over the unperturbed energy differences of `names`; `None` when that gains
+/// nothing over the expanded form (a constant denominator, no known factor found, or
+/// coefficients that are not rational multiples of one square root).
+pub(crate) fn factor_value(value: &RatFunc, names: &Names) -> Option<Factored> {
     if names.factors.is_empty() || value.denom().is_constant().is_some() {
         return None;
     }
@@ -129,35 +146,48 @@ fn factored(value: &RatFunc, names: &Names) -> Option<String> {
     if numer.powers.is_empty() && denom.powers.is_empty() {
         return None;
     }
-    let symbols = Symbols { names: &names.list };
     let constant = numer_content.rational * denom_content.rational.inv()?;
-    let negative = constant.is_negative();
-    let constant = constant.abs();
+    Some(Factored {
+        negative: constant.is_negative(),
+        constant: constant.abs(),
+        radicand: numer_content.radicand,
+        numer: numer.into_factors(),
+        denom: denom.into_factors(),
+    })
+}
+
+/// `numer/denom` in contract syntax from [`factor_value`].
+fn factored(value: &RatFunc, names: &Names) -> Option<String> {
+    let parts = factor_value(value, names)?;
+    let symbols = Symbols { names: &names.list };
     let mut top: Vec<String> = Vec::new();
     let mut bottom: Vec<String> = Vec::new();
-    if !constant.numer().is_one() {
-        top.push(constant.numer().to_string());
+    if !parts.constant.numer().is_one() {
+        top.push(parts.constant.numer().to_string());
     }
-    if numer_content.radicand != 1 {
-        top.push(
-            Radical::basis(numer_content.radicand, Rational::one())
-                .expect("square-free")
-                .to_string(),
-        );
+    if parts.radicand != 1 {
+        top.push(Radical::basis(parts.radicand, Rational::one()).expect("square-free").to_string());
     }
-    if !constant.denom().is_one() {
-        bottom.push(constant.denom().to_string());
+    if !parts.constant.denom().is_one() {
+        bottom.push(parts.constant.denom().to_string());
     }
-    numer.push_factors(&mut top, symbols);
-    denom.push_factors(&mut bottom, symbols);
+    let factor_text = |(p, e): &(Poly, u32)| {
+        let text = p.display(symbols).to_string();
+        let text = if is_sum(&text) { format!("({text})") } else { text };
+        if *e == 1 {
+            text
+        } else {
+            format!("{text}^{e}")
+        }
+    };
+    top.extend(parts.numer.iter().map(factor_text));
+    bottom.extend(parts.denom.iter().map(factor_text));
     let mut res = String::new();
-    if negative {
+    if parts.negative {
         res.push('-');
     }
     if top.is_empty() {
         res.push('1');
-    } else if negative && top.len() == 1 && is_sum(&top[0]) {
-        res.push_str(&format!("({})", top[0]));
     } else {
         res.push_str(&top.join("*"));
     }
@@ -180,20 +210,17 @@ struct Split {
 }
 
 impl Split {
-    fn push_factors(&self, out: &mut Vec<String>, symbols: Symbols<'_>) {
+    /// The factors with their powers: the monomial (as one factor), the known factors, the rest.
+    fn into_factors(self) -> Vec<(Poly, u32)> {
+        let mut res = Vec::new();
         if !self.monomial.is_one() {
-            out.push(
-                Poly::term(self.monomial.clone(), Radical::one()).display(symbols).to_string(),
-            );
+            res.push((Poly::term(self.monomial, Radical::one()), 1));
         }
-        for (p, e) in &self.powers {
-            let text = format!("({})", p.display(symbols));
-            out.push(if *e == 1 { text } else { format!("{text}^{e}") });
-        }
+        res.extend(self.powers);
         if !self.rest.is_one() {
-            let text = self.rest.display(symbols).to_string();
-            out.push(if is_sum(&text) { format!("({text})") } else { text });
+            res.push((self.rest, 1));
         }
+        res
     }
 }
 
