@@ -6,12 +6,14 @@
 use std::fmt::Write;
 
 use super::terms::{self, Atom, Fraction};
+use super::text;
 use super::{report, LatexOptions};
 use crate::check;
 use crate::engine::{Branch, Derivation, ModelSpace, Note, SecularEquation};
 use crate::exact::{Field, RatFunc};
 use crate::linalg::SparseVec;
 use crate::model::{Basis, Model, SpaceKind};
+use num_traits::One;
 
 /// Width, in rough character units, of a displayed line before it breaks; about the text width
 /// of an article page at 10pt, with room for an equation number.
@@ -115,12 +117,14 @@ pub(crate) fn latex(
         out.push_str("% Needs \\usepackage{amsmath} and \\usepackage{booktabs}.\n");
     }
     out.push_str(&introduction(model, derivation, name, plain_options));
+    let factoring = text::Names::with_spectrum(names.clone(), &derivation.spectrum);
     for (idx, space) in derivation.model_spaces.iter().enumerate() {
         let context = SpaceContext {
             model,
             space,
             number: idx + 1,
             names,
+            factoring: &factoring,
             order: derivation.order,
             name,
             options,
@@ -249,6 +253,8 @@ struct SpaceContext<'a> {
     space: &'a ModelSpace,
     number: usize,
     names: &'a [String],
+    /// The same names with the energy differences that values are factored over.
+    factoring: &'a text::Names,
     order: u32,
     name: &'a str,
     options: &'a LatexOptions,
@@ -258,8 +264,7 @@ fn model_space(out: &mut String, ctx: &SpaceContext<'_>) {
     let space = ctx.space;
     let basis = ctx.model.basis();
     let d = space.basis.len();
-    let energies: Vec<String> =
-        space.unperturbed.iter().map(|e| scalar(e, ctx.names).text).collect();
+    let energies: Vec<String> = space.unperturbed.iter().map(|e| value_tex(e, ctx).text).collect();
     let _ = writeln!(out, "\\paragraph{{Model space {}.}}", ctx.number);
     let _ = write!(
         out,
@@ -285,7 +290,7 @@ fn model_space(out: &mut String, ctx: &SpaceContext<'_>) {
     let _ = write!(out, "{}.", kets.join(", "));
     if !space.normalized {
         let norms: Vec<String> =
-            space.basis_norms.iter().map(|g| format!("${}$", scalar(g, ctx.names).text)).collect();
+            space.basis_norms.iter().map(|g| format!("${}$", value_tex(g, ctx).text)).collect();
         let _ = write!(
             out,
             " These states are not normalized (squared norms {}); the matrices below are written \
@@ -327,7 +332,7 @@ fn note_latex(note: &Note) -> String {
 
 /// One table cell: the exact value (or a mark when too long), with the number beside it.
 fn cell(value: &RatFunc, ctx: &SpaceContext<'_>, too_long: &mut bool) -> Tex {
-    let exact = scalar(value, ctx.names);
+    let exact = value_tex(value, ctx);
     let mut res = if exact.width > CELL_LIMIT {
         *too_long = true;
         Tex::new("\\ast", 1)
@@ -411,8 +416,7 @@ fn branch_table(out: &mut String, ctx: &SpaceContext<'_>) {
         })
         .collect();
     let normal_width = 3 + order_widths.iter().map(|w| w + 2).sum::<usize>() + 8 + 12;
-    let energies: Vec<String> =
-        space.unperturbed.iter().map(|e| scalar(e, ctx.names).text).collect();
+    let energies: Vec<String> = space.unperturbed.iter().map(|e| value_tex(e, ctx).text).collect();
     let mut caption = format!(
         "Energy branches of model space~{} of \\texttt{{{}}} ($E_0 = {}$) to order $N = {}$: \
          coefficients $E^{{(k)}}$ of $\\lambda^k$, multiplicity at order $N$, and the order at which \
@@ -540,7 +544,7 @@ fn effective_hamiltonian(out: &mut String, ctx: &SpaceContext<'_>) {
         let cells: Vec<Vec<Tex>> = matrix
             .to_rows()
             .iter()
-            .map(|r| r.iter().map(|x| scalar(x, ctx.names)).collect())
+            .map(|r| r.iter().map(|x| value_tex(x, ctx)).collect())
             .collect();
         let col_widths: Vec<usize> =
             (0..d).map(|c| cells.iter().map(|r| r[c].width).max().unwrap_or(1)).collect();
@@ -613,7 +617,11 @@ fn secular_equation(out: &mut String, secular: &SecularEquation, names: &[String
 
 fn branch_series(out: &mut String, number: usize, branch: &Branch, ctx: &SpaceContext<'_>) {
     let coeffs: Vec<Fraction> = branch.energy.iter().map(terms::fraction).collect();
-    let mut pieces = series_pieces(&coeffs, "\\lambda", false, ctx.names);
+    // A coefficient with a non-trivial denominator reads better factored.
+    let factored: Vec<Option<(bool, Tex)>> =
+        branch.energy.iter().map(|c| factored_tex(c, ctx)).collect();
+    let mut pieces = series_pieces_with(&coeffs, &factored, "\\lambda", false, ctx.names);
+
     if pieces.is_empty() {
         pieces.push(Tex::new("0", 1));
     }
@@ -693,6 +701,18 @@ fn power(var: &str, k: usize) -> Tex {
 /// a line may break. A coefficient that is a sum stays grouped as `var^k (a + b)`, and one that is
 /// too long a fraction as `var^k/D (a + b)`, so that each coefficient can still be read off.
 fn series_pieces(coeffs: &[Fraction], var: &str, descending: bool, names: &[String]) -> Vec<Tex> {
+    series_pieces_with(coeffs, &[], var, descending, names)
+}
+
+/// [`series_pieces`] where `factored[k]`, when given, is the sign and magnitude to typeset for
+/// coefficient `k` instead of its expanded form.
+fn series_pieces_with(
+    coeffs: &[Fraction],
+    factored: &[Option<(bool, Tex)>],
+    var: &str,
+    descending: bool,
+    names: &[String],
+) -> Vec<Tex> {
     let mut order: Vec<usize> = (0..coeffs.len()).collect();
     if descending {
         order.reverse();
@@ -705,6 +725,16 @@ fn series_pieces(coeffs: &[Fraction], var: &str, descending: bool, names: &[Stri
         }
         let first = res.is_empty();
         let power = power(var, k);
+        if let Some(Some((negative, magnitude))) = factored.get(k) {
+            let mut piece = operator(*negative, first);
+            piece.push(magnitude);
+            if !power.text.is_empty() {
+                piece.push_str("\\,", 0);
+                piece.push(&power);
+            }
+            res.push(piece);
+            continue;
+        }
         if coeff.denom.is_empty() {
             if let [atom] = coeff.numer.as_slice() {
                 let mut piece = operator(atom.negative, first);
@@ -800,6 +830,79 @@ fn frac(numerator: &Tex, denominator: &Tex) -> Tex {
 /// Whether the atom's magnitude is exactly 1 with nothing else.
 fn is_unit(atom: &Atom) -> bool {
     atom.root == 1 && !atom.imaginary && atom.factors.is_empty() && atom.magnitude.is_one()
+}
+
+/// A value of a model space typeset inline, factored over the unperturbed energy differences
+/// when that is shorter than the expanded fraction.
+fn value_tex(value: &RatFunc, ctx: &SpaceContext<'_>) -> Tex {
+    let expanded = scalar(value, ctx.names);
+    match factored_tex(value, ctx) {
+        Some((negative, magnitude)) if magnitude.width < expanded.width => {
+            let mut res = operator(negative, true);
+            res.push(&magnitude);
+            res
+        }
+        _ => expanded,
+    }
+}
+
+/// The sign and the unsigned magnitude of a value typeset from its factored form,
+/// `\frac{g^{4} (w + \delta)}{w (2 w + \delta)^{3}}`.
+fn factored_tex(value: &RatFunc, ctx: &SpaceContext<'_>) -> Option<(bool, Tex)> {
+    let parts = text::factor_value(value, ctx.factoring)?;
+    // A sum is parenthesized unless it stands alone above or below the fraction bar.
+    let factor = |(p, e): &(crate::exact::Poly, u32), alone: bool| -> Tex {
+        let atoms = terms::atoms(p);
+        let mut tex = inline_sum(&atoms, ctx.names);
+        if atoms.len() > 1 && !(alone && *e == 1) {
+            let mut wrapped = Tex::new("\\left(", 1);
+            wrapped.push(&tex);
+            wrapped.push_str("\\right)", 1);
+            tex = wrapped;
+        }
+        if *e > 1 {
+            tex.push_str(&format!("^{{{e}}}"), 1);
+        }
+        tex
+    };
+    let join = |parts: Vec<Tex>| -> Tex {
+        let mut res = Tex::default();
+        for (idx, part) in parts.iter().enumerate() {
+            if idx > 0 {
+                res.push_str(" ", 0);
+            }
+            res.push(part);
+        }
+        res
+    };
+    let mut top: Vec<Tex> = Vec::new();
+    if !parts.constant.numer().is_one() || (parts.numer.is_empty() && parts.radicand == 1) {
+        let n = parts.constant.numer().to_string();
+        top.push(Tex::new(n.clone(), n.len()));
+    }
+    if parts.radicand != 1 {
+        let r = parts.radicand.abs().to_string();
+        if parts.radicand != -1 {
+            top.push(Tex::new(format!("\\sqrt{{{r}}}"), r.len() + 1));
+        }
+        if parts.radicand < 0 {
+            top.push(Tex::new("i", 1));
+        }
+    }
+    let top_alone = top.is_empty() && parts.numer.len() == 1;
+    top.extend(parts.numer.iter().map(|f| factor(f, top_alone)));
+    let mut bottom: Vec<Tex> = Vec::new();
+    if !parts.constant.denom().is_one() {
+        let d = parts.constant.denom().to_string();
+        bottom.push(Tex::new(d.clone(), d.len()));
+    }
+    let bottom_alone = bottom.is_empty() && parts.denom.len() == 1;
+    bottom.extend(parts.denom.iter().map(|f| factor(f, bottom_alone)));
+    let numerator = join(top);
+    Some((
+        parts.negative,
+        if bottom.is_empty() { numerator } else { frac(&numerator, &join(bottom)) },
+    ))
 }
 
 /// A value typeset inline: a sum, or a fraction of sums.

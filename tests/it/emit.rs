@@ -558,3 +558,11 @@ fn docs_show_current_output() {
     assert_eq!(report, include_str!("../../docs/spin_orbit_field_report.txt"));
     assert_eq!(rust, include_str!("../../docs/spin_orbit_field.rs"));
 }
+
+/// Symbolic energies are typeset factored over the unperturbed energy differences,
+/// `\frac{g^{4} (w + \delta)}{w (2 w + \delta)^{3}}`, where that is shorter than the expanded
+/// quotient.
+#[test]
+fn latex_factors_over_energy_differences() {
+    check_latex(include_str!("../../examples/qubit_resonator.clv"), &[]);
+}
