@@ -125,6 +125,8 @@ pub(crate) fn latex(
             number: idx + 1,
             names,
             factoring: &factoring,
+            n_params: derivation.parameters.len(),
+            roots: &derivation.roots,
             order: derivation.order,
             name,
             options,
@@ -170,17 +172,7 @@ fn introduction(
             names[..n_params].iter().map(|n| format!("${}$", symbol(n).text)).collect();
         let _ = write!(out, " Parameters: {}.", symbols.join(", "));
     }
-    for (r, atom) in derivation.roots.iter().enumerate() {
-        let poly: Vec<RatFunc> = atom.polynomial.iter().map(RatFunc::from_rational).collect();
-        let _ = write!(
-            out,
-            " ${}$ is the {} real root (in ascending order) of ${} = 0$, $\\approx {:.12}$.",
-            symbol(&names[n_params + r]).text,
-            ordinal(atom.index),
-            polynomial_tex(&poly),
-            atom.approximation().to_f64()
-        );
-    }
+
     if !options.at.is_empty() {
         let _ = write!(out, " Numeric values are given at {}.", at_text(&options.at, names));
     }
@@ -255,6 +247,10 @@ struct SpaceContext<'a> {
     names: &'a [String],
     /// The same names with the energy differences that values are factored over.
     factoring: &'a text::Names,
+    /// Number of model parameters; symbols from here on are the algebraic `roots`.
+    n_params: usize,
+    /// The algebraic numbers of the derivation.
+    roots: &'a [crate::engine::RootAtom],
     order: u32,
     name: &'a str,
     options: &'a LatexOptions,
@@ -511,16 +507,41 @@ fn branch_table(out: &mut String, ctx: &SpaceContext<'_>) {
             out.push_str(" \\\\\n\\bottomrule\n\\end{tabular}\n");
         }
     }
-    let mut remarks = Vec::new();
+    let mut remarks: Vec<String> = Vec::new();
     if too_long {
         remarks.push(
-            "Entries $\\ast$ are too long for the table; they appear in the branch series below.",
+            "Entries $\\ast$ are too long for the table; they appear in the branch series below."
+                .to_string(),
         );
+    }
+    // The algebraic numbers this table uses, defined where the reader meets them.
+    let n_params = ctx.n_params;
+    let mut used: Vec<usize> = space
+        .branches
+        .iter()
+        .flat_map(|b| &b.energy)
+        .flat_map(|c| c.params())
+        .filter(|p| p.0 as usize >= n_params)
+        .map(|p| p.0 as usize - n_params)
+        .collect();
+    used.sort_unstable();
+    used.dedup();
+    for r in used {
+        let atom = &ctx.roots[r];
+        let poly: Vec<RatFunc> = atom.polynomial.iter().map(RatFunc::from_rational).collect();
+        remarks.push(format!(
+            "${}$ is the {} real root of ${} = 0$ ($\\approx {:.10}$).",
+            symbol(&ctx.names[n_params + r]).text,
+            ordinal(atom.index),
+            polynomial_tex(&poly),
+            atom.approximation().to_f64()
+        ));
     }
     if space.branches.iter().any(|b| b.not_split.is_some()) {
         remarks.push(
             "A branch marked ``not split'' belongs to a group whose secular polynomial has no exact \
-             roots; --- marks the orders that are therefore unknown.",
+             roots; --- marks the orders that are therefore unknown."
+                .to_string(),
         );
     }
     if !remarks.is_empty() {
