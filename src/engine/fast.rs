@@ -15,7 +15,7 @@ use num_integer::Integer;
 use num_traits::{One, Signed, Zero};
 
 use super::bloch::{Bloch, Problem};
-use crate::exact::{Field, Radical, Rational, SquareRoot};
+use crate::exact::{Field, Radical, Rational};
 use crate::linalg::{DenseMatrix, SparseMatrix, SparseVec};
 
 /// A sparse vector `num / den` with integer entries.
@@ -186,63 +186,162 @@ pub(crate) fn rayleigh_schrodinger(
     (Bloch { model: vec![p], omega, hermitian: bloch.clone(), bloch, s_inv_half }, reach)
 }
 
+/// The diagonal rescaling found by [`rationalize`]: `d_i = sqrt(r_i)` with `r_i` a product of
+/// powers of small primes, kept as exponents so that no big rational is ever formed.
+pub(crate) struct Rescaling {
+    primes: Vec<u64>,
+    /// `exponents[i][k]` is the power of `primes[k]` in `r_i`.
+    exponents: Vec<Vec<i32>>,
+}
+
+impl Rescaling {
+    /// `r_i / r_p`, the square of the factor that maps coordinate `i` back when state `p` keeps
+    /// its scale.
+    pub(crate) fn square_ratio(&self, i: usize, p: usize) -> Rational {
+        let mut acc = Rational::one();
+        for (k, prime) in self.primes.iter().enumerate() {
+            let e = self.exponents[i][k] - self.exponents[p][k];
+            if e != 0 {
+                acc *= &Rational::from_bigint(BigInt::from(*prime)).pow(e).expect("prime > 0");
+            }
+        }
+        acc
+    }
+}
+
+/// The primes below this bound factor every radicand `rationalize` accepts; spin and oscillator
+/// matrix elements only involve primes up to about the dimension of a factor.
+const PRIME_BOUND: u64 = 1 << 14;
+
 /// A diagonal similarity `A'_k = D^{-1} A_k D` that makes every coupling rational, found by
 /// walking the coupling graph from each component's first state (ENGINE.md §8: it leaves every
-/// branch unchanged). `D = diag(sqrt(r_i))` with rational `r_i > 0`, returned as the `r_i`; a
-/// coupling `c*sqrt(s)` from `i` to `j` becomes `c*sqrt(s r_j / r_i)`, which must be rational.
-/// `None` when a coupling is not a single real radical or a cycle disagrees.
-pub(crate) fn rationalize(
-    problem: &Problem<Radical>,
-) -> Option<(Problem<Rational>, Vec<Rational>)> {
+/// branch unchanged). `D = diag(sqrt(r_i))`; a coupling `c*sqrt(s)` from `i` to `j` becomes
+/// `c*sqrt(s r_j / r_i)`, which must be rational. The `r_i` are kept as prime exponents, so a
+/// coupling costs a few small-integer operations however large `r_i` grows (for the oscillator
+/// `r_n` is `1/n!`). `None` when a coupling is not a single real radical, a radicand has a prime
+/// factor beyond the bound, or a cycle disagrees.
+pub(crate) fn rationalize(problem: &Problem<Radical>) -> Option<(Problem<Rational>, Rescaling)> {
     let n = problem.energies.len();
-    let mut squares: Vec<Option<Rational>> = vec![None; n];
-    let mut neighbors: Vec<Vec<(usize, i64)>> = vec![Vec::new(); n];
     let single = |v: &Radical| -> Option<(i64, Rational)> {
         match v.terms() {
             [(s, c)] if *s > 0 => Some((*s, c.clone())),
             _ => None,
         }
     };
-    for term in &problem.terms {
-        for (i, j, v) in term.triplets() {
-            let (s, _) = single(v)?;
-            if i != j {
-                neighbors[i].push((j, s));
+    // Factor every radicand over the primes below the bound.
+    let primes: Vec<u64> = (2..PRIME_BOUND)
+        .filter(|&k| (2..k).take_while(|d| d * d <= k).all(|d| k % d != 0))
+        .collect();
+    let mut factored: std::collections::BTreeMap<i64, Vec<usize>> =
+        std::collections::BTreeMap::new();
+    let mut factor = |s: i64| -> Option<Vec<usize>> {
+        if let Some(f) = factored.get(&s) {
+            return Some(f.clone());
+        }
+        let mut rest = u64::try_from(s).ok()?;
+        let mut res = Vec::new();
+        for (k, prime) in primes.iter().enumerate() {
+            if rest == 1 {
+                break;
+            }
+            if rest % prime == 0 {
+                // Square-free: each prime divides once.
+                rest /= prime;
+                res.push(k);
             }
         }
+        if rest != 1 {
+            return None;
+        }
+        factored.insert(s, res.clone());
+        Some(res)
+    };
+    let mut neighbors: Vec<Vec<(usize, Vec<usize>)>> = vec![Vec::new(); n];
+    let mut entries: Vec<Vec<(usize, usize, Vec<usize>, Rational)>> = Vec::new();
+    for term in &problem.terms {
+        let mut list = Vec::new();
+        for (i, j, v) in term.triplets() {
+            let (s, c) = single(v)?;
+            let primes_of_s = factor(s)?;
+            if i != j {
+                neighbors[i].push((j, primes_of_s.clone()));
+            }
+            list.push((i, j, primes_of_s, c));
+        }
+        entries.push(list);
     }
+    // Exponent vectors run over the primes that occur, not over every prime below the bound.
+    let mut occurring: Vec<usize> =
+        entries.iter().flatten().flat_map(|(_, _, f, _)| f.clone()).collect();
+    occurring.sort_unstable();
+    occurring.dedup();
+    let slot = |k: usize| occurring.binary_search(&k).expect("an occurring prime");
+    for list in &mut entries {
+        for (_, _, f, _) in list.iter_mut() {
+            *f = f.iter().map(|&k| slot(k)).collect();
+        }
+    }
+    for list in &mut neighbors {
+        for (_, f) in list.iter_mut() {
+            *f = f.iter().map(|&k| slot(k)).collect();
+        }
+    }
+    let primes: Vec<u64> = occurring.iter().map(|&k| primes[k]).collect();
+    let n_primes = primes.len();
+    let mut exponents: Vec<Option<Vec<i32>>> = vec![None; n];
     for root in 0..n {
-        if squares[root].is_some() {
+        if exponents[root].is_some() {
             continue;
         }
-        squares[root] = Some(Rational::one());
+        exponents[root] = Some(vec![0; n_primes]);
         let mut stack = vec![root];
         while let Some(i) = stack.pop() {
-            let r_i = squares[i].clone().expect("visited");
-            for (j, s) in &neighbors[i] {
-                if squares[*j].is_none() {
+            for (j, primes_of_s) in &neighbors[i] {
+                if exponents[*j].is_none() {
                     // d_j = d_i / sqrt(s) makes this coupling rational.
-                    squares[*j] = Some(r_i.clone() * Rational::from_i64(*s).inv()?);
+                    let mut e = exponents[i].clone().expect("visited");
+                    for &k in primes_of_s {
+                        e[k] -= 1;
+                    }
+                    exponents[*j] = Some(e);
                     stack.push(*j);
                 }
             }
         }
     }
-    let squares: Vec<Rational> = squares.into_iter().collect::<Option<_>>()?;
+    let exponents: Vec<Vec<i32>> = exponents.into_iter().collect::<Option<_>>()?;
     let mut terms = Vec::new();
-    for term in &problem.terms {
-        let mut triplets = Vec::new();
-        for (i, j, v) in term.triplets() {
-            let (s, c) = single(v)?;
-            let ratio = Rational::from_i64(s) * &squares[j] * squares[i].inv()?;
-            triplets.push((i, j, c * ratio.sqrt()?));
+    for list in entries {
+        let mut triplets = Vec::with_capacity(list.len());
+        for (i, j, primes_of_s, c) in list {
+            // sqrt(s r_j / r_i) = prod p^(e_p / 2), every e_p even.
+            let mut e: Vec<(usize, i32)> = Vec::new();
+            let (ei, ej) = (&exponents[i], &exponents[j]);
+            for k in 0..n_primes {
+                let mut x = ej[k] - ei[k];
+                if primes_of_s.contains(&k) {
+                    x += 1;
+                }
+                if x != 0 {
+                    e.push((k, x));
+                }
+            }
+            let mut value = c;
+            for (k, x) in e {
+                if x % 2 != 0 {
+                    return None;
+                }
+                value *=
+                    &Rational::from_bigint(BigInt::from(primes[k])).pow(x / 2).expect("prime > 0");
+            }
+            triplets.push((i, j, value));
         }
         terms.push(SparseMatrix::from_triplets(n, n, triplets));
     }
     let energies = problem.energies.iter().map(Radical::as_rational).collect::<Option<_>>()?;
     // The metric only enters the Hermitian form, which one-state model spaces skip.
     let metric = (0..n).map(|_| Rational::one()).collect();
-    Some((Problem { energies, metric, terms }, squares))
+    Some((Problem { energies, metric, terms }, Rescaling { primes, exponents }))
 }
 
 #[cfg(test)]

@@ -465,17 +465,19 @@ struct Solved {
     secular: Vec<RawSecular>,
 }
 
-/// `scale_squares[i]` is `(d_i / d_p)^2` for a problem rescaled by `rationalize`; coordinates are
-/// multiplied back by `d_i / d_p`.
+/// `rescaled` is the rescaling of a problem solved by `rationalize`, with the state whose scale
+/// is kept; coordinates are multiplied back by `d_i / d_p`.
 fn to_solved<F: Scalar>(
     raw: RawSpace<F>,
-    scale_squares: Option<&[Rational]>,
+    rescaled: Option<(&fast::Rescaling, usize)>,
     states_to: usize,
 ) -> Solved {
     let conv_vec = |v: &SparseVec<F>| -> SparseVec<RatFunc> {
-        match scale_squares {
+        match rescaled {
             None => v.map(|_, x| x.to_ratfunc()),
-            Some(s) => v.map(|i, x| x.to_ratfunc() * RatFunc::constant(Radical::sqrt_of(&s[i]))),
+            Some((scale, p)) => v.map(|i, x| {
+                x.to_ratfunc() * RatFunc::constant(Radical::sqrt_of(&scale.square_ratio(i, p)))
+            }),
         }
     };
     let omega_support = raw.omega_support;
@@ -515,11 +517,9 @@ fn solve_fields(
     let problem = &working.problem;
     if let Some(radical) = try_convert::<Radical>(problem) {
         if indices.len() == 1 {
-            if let Some((rational, squares)) = fast::rationalize(&radical) {
+            if let Some((rational, rescaling)) = fast::rationalize(&radical) {
                 if let Ok(raw) = solve_one_state(&rational, indices[0], order, states_to) {
-                    let anchor = squares[indices[0]].inv().expect("non-zero scale");
-                    let rel: Vec<Rational> = squares.iter().map(|s| s.clone() * &anchor).collect();
-                    return to_solved(raw, Some(&rel), states_to);
+                    return to_solved(raw, Some((&rescaling, indices[0])), states_to);
                 }
             }
         }
