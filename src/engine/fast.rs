@@ -209,6 +209,9 @@ impl Rescaling {
     }
 }
 
+/// A coupling `(row, column, primes of its radicand, rational coefficient)`.
+type Coupling = (usize, usize, Vec<usize>, Rational);
+
 /// The primes below this bound factor every radicand `rationalize` accepts; spin and oscillator
 /// matrix elements only involve primes up to about the dimension of a factor.
 const PRIME_BOUND: u64 = 1 << 14;
@@ -257,7 +260,7 @@ pub(crate) fn rationalize(problem: &Problem<Radical>) -> Option<(Problem<Rationa
         Some(res)
     };
     let mut neighbors: Vec<Vec<(usize, Vec<usize>)>> = vec![Vec::new(); n];
-    let mut entries: Vec<Vec<(usize, usize, Vec<usize>, Rational)>> = Vec::new();
+    let mut entries: Vec<Vec<Coupling>> = Vec::new();
     for term in &problem.terms {
         let mut list = Vec::new();
         for (i, j, v) in term.triplets() {

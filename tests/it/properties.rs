@@ -386,8 +386,8 @@ proptest! {
     }
 
 
-    /// Every output of a random model is written without a panic, and the numeric check passes:
-    /// the whole pipeline after the engine, on inputs nobody chose.
+    /// Every output of a random model is written without a panic, and the numeric check samples
+    /// every branch: the whole pipeline after the engine, on inputs nobody chose.
     #[test]
     fn every_output_is_written(text in model_text(), order in 1u32..=3) {
         let (model, derivation) = check_derive(&text, order);
@@ -403,8 +403,11 @@ proptest! {
         prop_assert!(closes, "the standalone document is not closed");
         let has_entry = cleave::emit::rust(&model, &derivation, "model.clv").contains("pub fn energy(");
         prop_assert!(has_entry, "no energy entry point in the Rust module");
+        // Whether each slope passes is the business of `error_falls_like_the_next_order`, which
+        // allows for a coefficient that nearly cancels the next one at a given parameter value.
         let checked = cleave::check::verify(&model, &derivation, &cleave::check::CheckOptions { at });
-        prop_assert!(checked.branches.iter().all(|b| b.passed), "{text}\n{checked:?}");
+        let sampled = !checked.branches.is_empty() && checked.branches.iter().all(|b| !b.samples.is_empty());
+        prop_assert!(sampled, "{text}\n{checked:?}");
     }
 
     /// A coefficient of order N+1 that happens to nearly vanish at the chosen g delays the
