@@ -16,6 +16,10 @@ pub const MAX_CHECK_DIMENSION: usize = 1200;
 pub struct CheckOptions {
     /// Parameter values by name; parameters not given are set to 1.
     pub at: Vec<(String, Rational)>,
+    /// The order N of the series under test; `None` means the derivation's order. A derivation
+    /// carried beyond N supplies the next coefficients, which predict the error (see
+    /// [`BranchCheck::next_order_ratio`]).
+    pub order: Option<u32>,
 }
 
 /// The outcome of a numeric verification.
@@ -44,8 +48,13 @@ pub struct BranchCheck {
     pub expected_slope: u32,
     /// A root-test estimate of the radius of convergence in lambda from the last coefficients.
     pub radius: Option<f64>,
-    /// Whether the fitted slope is at least the expected one less 0.5 (or the error is at
-    /// rounding level everywhere, as for a series that is exact at this order).
+    /// At the smallest lambda whose error is resolved, the error divided by the one the next
+    /// derived coefficients predict, `|sum_{k>N} E^(k) lambda^k|`: close to 1 when those
+    /// coefficients are right as well. `None` when the derivation stops at N.
+    pub next_order_ratio: Option<f64>,
+    /// Whether the error behaves as a series of order N must: it matches the prediction of the next
+    /// coefficients within 10% where resolved, or its fitted slope is at least N + 1/2, or it is at
+    /// rounding level everywhere (a series that is exact at this order).
     pub passed: bool,
 }
 
@@ -100,7 +109,7 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
             skipped: Some("an operator entry is undefined at these parameter values".into()),
         };
     };
-    let order = derivation.order;
+    let order = options.order.unwrap_or(derivation.order).min(derivation.order);
     let lambdas: Vec<f64> = (0..24).map(|k| 0.5 * 0.7f64.powi(k)).collect();
     let spectra: Vec<Vec<f64>> = lambdas
         .iter()
@@ -119,7 +128,10 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
         for (b, branch) in space.branches.iter().enumerate() {
             let coeffs: Option<Vec<f64>> =
                 branch.energy.iter().map(|c| evaluate(c, &symbols).map(|(re, _)| re)).collect();
-            let Some(coeffs) = coeffs else { continue };
+            let Some(all_coeffs) = coeffs else { continue };
+            // The series under test stops at N; what the derivation has beyond predicts its error.
+            let cut = all_coeffs.len().min(order as usize + 1);
+            let (coeffs, beyond) = all_coeffs.split_at(cut);
             let known = coeffs.len().saturating_sub(1) as u32;
             let samples: Vec<(f64, f64)> = lambdas
                 .iter()
@@ -137,15 +149,34 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
             let slope = fit_slope(&samples, scale);
             let expected_slope = known + 1;
             let noise_only = samples.iter().all(|(_, e)| *e < 1e-12 * scale);
+            let next_order_ratio = (!beyond.is_empty())
+                .then(|| {
+                    // The smallest lambda whose error is well above rounding.
+                    let (lambda, error) = samples
+                        .iter()
+                        .filter(|(_, e)| *e > 1e-10 * scale)
+                        .min_by(|a, b| a.0.total_cmp(&b.0))?;
+                    let predicted = beyond
+                        .iter()
+                        .enumerate()
+                        .map(|(k, c)| c * lambda.powi((cut + k) as i32))
+                        .sum::<f64>()
+                        .abs();
+                    (predicted > 0.0).then(|| error / predicted)
+                })
+                .flatten();
             // A steeper slope only means the next coefficient is small at these values.
-            let passed = noise_only || slope.is_some_and(|m| m > f64::from(expected_slope) - 0.5);
+            let passed = noise_only
+                || next_order_ratio.is_some_and(|r| (r - 1.0).abs() < 0.1)
+                || slope.is_some_and(|m| m > f64::from(expected_slope) - 0.5);
             branches.push(BranchCheck {
                 space: s,
                 branch: b,
                 samples,
                 slope,
-                expected_slope: if known == order { order + 1 } else { expected_slope },
-                radius: radius_estimate(&coeffs),
+                expected_slope,
+                radius: radius_estimate(coeffs),
+                next_order_ratio,
                 passed,
             });
         }

@@ -8,7 +8,8 @@ use crate::engine::Derivation;
 /// The readable table of `cleave check`.
 pub fn check_report(derivation: &Derivation, verification: &Verification, name: &str) -> String {
     let mut out = String::new();
-    let _ = writeln!(out, "Numeric check of {name} to order {}", derivation.order);
+    let order = verification.branches.first().map_or(derivation.order, |b| b.expected_slope - 1);
+    let _ = writeln!(out, "Numeric check of {name} to order {order}");
     if !verification.at.is_empty() {
         let values: Vec<String> =
             verification.at.iter().map(|(n, v)| format!("{n} = {v}")).collect();
@@ -29,8 +30,8 @@ pub fn check_report(derivation: &Derivation, verification: &Verification, name: 
     );
     let _ = writeln!(
         out,
-        "{:<8} {:>8} {:>8} {:>12}  {:<6}",
-        "branch", "slope", "expected", "radius~", "result"
+        "{:<8} {:>8} {:>8} {:>10} {:>12}  {:<6}",
+        "branch", "slope", "expected", "next/err", "radius~", "result"
     );
     for b in &verification.branches {
         // No slope with a pass means the error stayed at rounding level: the series is exact
@@ -41,12 +42,14 @@ pub fn check_report(derivation: &Derivation, verification: &Verification, name: 
             (None, false) => "-".to_string(),
         };
         let radius = b.radius.map_or("-".to_string(), |r| format!("{r:.3e}"));
+        let ratio = b.next_order_ratio.map_or("-".to_string(), |r| format!("{r:.3}"));
         let _ = writeln!(
             out,
-            "{:<8} {:>8} {:>8} {:>12}  {:<6}",
+            "{:<8} {:>8} {:>8} {:>10} {:>12}  {:<6}",
             format!("{}.{}", b.space + 1, b.branch + 1),
             slope,
             b.expected_slope,
+            ratio,
             radius,
             if b.passed { "ok" } else { "FAIL" }
         );
@@ -55,8 +58,10 @@ pub fn check_report(derivation: &Derivation, verification: &Verification, name: 
     let _ = writeln!(out, "{} branches checked, {} failed", verification.branches.len(), failed);
     let _ = writeln!(
         out,
-        "radius~ is a root-test estimate from the last coefficient; for an asymptotic series it \
-         shrinks with the order, and the series should not be used beyond it."
+        "next/err is the error at the smallest resolved lambda divided by the one the next two \
+         derived coefficients predict (1 when they are right too); radius~ is a root-test estimate \
+         from the last coefficient: for an asymptotic series it shrinks with the order, and the \
+         series should not be used beyond it."
     );
     out
 }

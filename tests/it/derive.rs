@@ -771,3 +771,27 @@ V2 = s*|S1><S1|
         );
     }
 }
+
+/// `cleave check` compares the series with exact diagonalization (nalgebra): a coefficient that is
+/// off by one percent fails, and the correct series passes even where the next coefficient
+/// nearly cancels the one after it (the predicted error then follows both).
+#[test]
+fn numeric_check_accepts_right_and_rejects_wrong_series() {
+    let text = r#"
+space d = levels(A, B, C, D)
+H0 = matrix(d, [[0, 0, 0, 0], [0, 1, 0, 0], [0, 0, 0, 0], [0, 0, 0, 1]])
+V = matrix(d, [[0, 1, 0, 2], [1, -1, 0, sqrt(2)], [0, 0, sqrt(2), 1], [2, sqrt(2), 1, -1]])
+"#;
+    let (model, derivation) = check_derive(text, 4);
+    let options = cleave::check::CheckOptions { at: Vec::new(), order: Some(2) };
+    let right = cleave::check::verify(&model, &derivation, &options);
+    assert_eq!(right.branches.len(), 4);
+    assert!(right.branches.iter().all(|b| b.passed), "{right:?}");
+    let mut wrong = derivation.clone();
+    let coefficient = &mut wrong.model_spaces[0].branches[0].energy[2];
+    *coefficient = coefficient.clone()
+        * RatFunc::from_rational(&cleave::exact::Rational::ratio(101, 100).unwrap());
+    let checked = cleave::check::verify(&model, &wrong, &options);
+    assert!(!checked.branches[0].passed, "{checked:?}");
+    assert!(checked.branches[1..].iter().all(|b| b.passed));
+}
