@@ -1133,35 +1133,28 @@ fn short_name(name: &str) -> &str {
 
 /// Escapes text-mode specials (`\ _ # % & $ { } ^ ~`).
 fn escape_text(raw: &str) -> String {
+    escape(raw, ["\\textbackslash{}", "\\textasciicircum{}", "\\textasciitilde{}"])
+}
+
+/// Escapes specials inside `\mathrm{...}`.
+fn escape_math(raw: &str) -> String {
+    escape(raw, ["\\backslash ", "\\hat{}", "\\sim "])
+}
+
+/// Backslash-escapes `_ # % & $ { }`, writes `\`, `^` and `~` as `words` (in that order), and
+/// turns line breaks into spaces.
+fn escape(raw: &str, words: [&str; 3]) -> String {
     let mut res = String::with_capacity(raw.len());
     for ch in raw.chars() {
         match ch {
-            '\\' => res.push_str("\\textbackslash{}"),
-            '^' => res.push_str("\\textasciicircum{}"),
-            '~' => res.push_str("\\textasciitilde{}"),
+            '\\' => res.push_str(words[0]),
+            '^' => res.push_str(words[1]),
+            '~' => res.push_str(words[2]),
             '_' | '#' | '%' | '&' | '$' | '{' | '}' => {
                 res.push('\\');
                 res.push(ch);
             }
             '\n' | '\r' => res.push(' '),
-            _ => res.push(ch),
-        }
-    }
-    res
-}
-
-/// Escapes specials inside `\mathrm{...}`.
-fn escape_math(raw: &str) -> String {
-    let mut res = String::with_capacity(raw.len());
-    for ch in raw.chars() {
-        match ch {
-            '\\' => res.push_str("\\backslash "),
-            '^' => res.push_str("\\hat{}"),
-            '~' => res.push_str("\\sim "),
-            '_' | '#' | '%' | '&' | '$' | '{' | '}' => {
-                res.push('\\');
-                res.push(ch);
-            }
             _ => res.push(ch),
         }
     }
