@@ -44,7 +44,7 @@ struct Ident {
 pub(crate) fn rust(model: &Model, derivation: &Derivation, name: &str) -> String {
     let names = &derivation.parameters;
     let mut idents = param_idents(names);
-    // Roots of cubics become constants, named after their place in the derivation's list.
+    // Algebraic roots become constants, named after their place in the derivation's list.
     for r in 0..derivation.roots.len() {
         let code = format!("ROOT_{}", r + 1);
         idents.push(Ident { code: code.clone(), bare: code });

@@ -454,8 +454,7 @@ fn try_convert<F: Scalar>(problem: &Problem<RatFunc>) -> Option<Problem<F>> {
     })
 }
 
-/// Everything of one model space converted to rational functions, plus the per-index scale that
-/// maps the field's coordinates back to working coordinates.
+/// Everything of one model space converted to rational functions, the form every output reads.
 struct Solved {
     bloch_h: Vec<DenseMatrix<RatFunc>>,
     hermitian: Vec<DenseMatrix<RatFunc>>,

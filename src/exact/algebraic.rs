@@ -4,9 +4,11 @@
 //!
 //! Elements are polynomials in `alpha` of degree below `deg f` with [`RatFunc`] coefficients. The
 //! modulus travels with each element that needs it, so constants (and `zero()`, `one()`) carry
-//! none. `f` must stay irreducible over `K`: a rational cubic without rational roots qualifies,
-//! since `[Q(sqrt 2, sqrt 3, ...)(alpha) : Q]` must then be divisible by 3 while the radical field
-//! has degree a power of two, and adjoining parameters (transcendentals) adds no algebraic roots.
+//! none. The ring is a field exactly when `f` is irreducible over `K`: a rational polynomial of
+//! odd degree irreducible over the rationals qualifies, since the radical field has degree a power
+//! of two, and adjoining parameters (transcendentals) adds no algebraic roots. When `f` factors
+//! over `K`, some non-zero element has no inverse and [`Field::inv`] returns `None` for it, which
+//! callers treat as "cannot split here" (`engine::algebraic`).
 
 use std::sync::Arc;
 
