@@ -271,8 +271,13 @@ fn parse_at(items: &[String], model: &Model) -> Result<ParamValues, Failure> {
         let name = name.trim();
         let Some(param) = model.params().iter().find(|p| p.name == name) else {
             let known = model.param_names().join(", ");
+            let has = if known.is_empty() {
+                "it has none".to_string()
+            } else {
+                format!("it has: {known}")
+            };
             return Err(Failure::bad_input(format!(
-                "--at {item}: the model has no parameter `{name}` (it has: {known})"
+                "--at {item}: the model has no parameter `{name}` ({has})"
             )));
         };
         let value: Rational = lower::parse_rational(value)
