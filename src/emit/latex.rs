@@ -94,8 +94,9 @@ pub(crate) fn latex(
     // Numeric values of the algebraic roots join the parameter values, under their LaTeX names.
     let mut with_roots = options.clone();
     if !with_roots.at.is_empty() {
-        for (r, atom) in derivation.roots.iter().enumerate() {
-            with_roots.at.push((format!("rho_{}", r + 1), atom.approximation()));
+        let root_names = &names[derivation.parameters.len()..];
+        for (name, atom) in root_names.iter().zip(&derivation.roots) {
+            with_roots.at.push((name.clone(), atom.approximation()));
         }
     }
     let plain_options = options;

@@ -4,7 +4,7 @@ use std::fmt::Write;
 
 use super::{text, ParamValues};
 use crate::check;
-use crate::engine::{Derivation, ModelSpace, Note};
+use crate::engine::{Derivation, MissingState, ModelSpace, Note};
 use crate::exact::{Field, RatFunc, SquareRoot};
 use crate::linalg::{DenseMatrix, SparseVec};
 use crate::model::Model;
@@ -177,7 +177,7 @@ fn model_space_report(
             );
         }
     }
-    if space.branches.iter().any(|b| b.state.is_some()) {
+    if space.branches.iter().any(|b| b.state.is_some() || b.state_missing.is_some()) {
         let _ = writeln!(
             out,
             "states (intermediate normalization: corrections are orthogonal to psi^(0)):"
@@ -185,10 +185,15 @@ fn model_space_report(
         for (b, branch) in space.branches.iter().enumerate() {
             let Some(s) = &branch.state else {
                 // Say why a branch has no state rather than leaving it out silently.
-                let why = if branch.multiplicity > 1 || branch.not_split.is_some() {
-                    "no single state: the branch's group does not split by this order"
-                } else {
-                    "not computed: a denominator of the state vanishes at this root of P"
+                let why = match branch.state_missing {
+                    Some(MissingState::RadicandTooLarge) => {
+                        "not computed: its coefficients need square roots of numbers beyond 64 \
+                         bits (the energies are not affected)"
+                    }
+                    Some(MissingState::Extension) => {
+                        "not computed: a denominator of the state vanishes at this root of P"
+                    }
+                    _ => "no single state: the branch's group does not split by this order",
                 };
                 let _ = writeln!(out, "  ({}) {why}", b + 1);
                 continue;

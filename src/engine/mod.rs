@@ -23,6 +23,7 @@ mod fast;
 mod notes;
 mod split;
 
+use std::cell::OnceCell;
 use std::collections::BTreeSet;
 
 use crate::exact::{Field, Radical, RatFunc, Rational, SquareRoot};
@@ -142,8 +143,22 @@ pub struct Branch {
     pub split_at: Option<u32>,
     /// The state, when the branch is a single one.
     pub state: Option<StateSeries>,
+    /// Why `state` is absent, when it is.
+    pub state_missing: Option<MissingState>,
     /// Set when the secular matrix of this group could not be split exactly.
     pub not_split: Option<NotSplit>,
+}
+
+/// Why a branch reports no state.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum MissingState {
+    /// The branch's group does not split by order N, so no single state belongs to it.
+    GroupNotSplit,
+    /// Its coefficients need square roots of numbers beyond 64 bits (high Fock states of an
+    /// oscillator, say); the energies are unaffected.
+    RadicandTooLarge,
+    /// A denominator of the state vanishes at this root of `P` (a zero divisor of the extension).
+    Extension,
 }
 
 /// The eigenvector series of a branch in the product basis, in intermediate normalization:
@@ -245,6 +260,26 @@ struct Working {
     columns: Vec<SparseVec<RatFunc>>,
     /// The level of each working state.
     level_of: Vec<usize>,
+    /// The problem in the radical field when it is numeric, and its rational rescaling: the same
+    /// for every model space, so each is found once, when first needed.
+    radical: OnceCell<Option<Problem<Radical>>>,
+    rational: OnceCell<Option<(Problem<Rational>, fast::Rescaling)>>,
+}
+
+impl Working {
+    fn new(
+        problem: Problem<RatFunc>,
+        columns: Vec<SparseVec<RatFunc>>,
+        level_of: Vec<usize>,
+    ) -> Working {
+        Working { problem, columns, level_of, radical: OnceCell::new(), rational: OnceCell::new() }
+    }
+    fn radical(&self) -> Option<&Problem<Radical>> {
+        self.radical.get_or_init(|| try_convert::<Radical>(&self.problem)).as_ref()
+    }
+    fn rational(&self) -> Option<&(Problem<Rational>, fast::Rescaling)> {
+        self.rational.get_or_init(|| self.radical().and_then(fast::rationalize)).as_ref()
+    }
 }
 
 /// Derives the perturbation series of `model` to `options.order`.
@@ -265,8 +300,12 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
     let spaces = model_space_levels(model, &spectrum)?;
     let n = working.problem.energies.len() as u64;
     let mut model_spaces = Vec::new();
-    let mut ctx =
-        Context { secular: Vec::new(), roots: Vec::new(), n_params: model.params().len() as u32 };
+    let mut ctx = Context {
+        secular: Vec::new(),
+        roots: Vec::new(),
+        n_params: model.params().len() as u32,
+        radicand_overflow: false,
+    };
     for levels in spaces {
         let indices: Vec<usize> = (0..working.level_of.len())
             .filter(|&i| levels.contains(&working.level_of[i]))
@@ -291,7 +330,7 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
             &mut ctx,
         ));
     }
-    if crate::exact::take_radicand_overflow() {
+    if ctx.radicand_overflow || crate::exact::take_radicand_overflow() {
         return Err(EngineError::Infeasible(format!(
             "to order {order} this model needs the square root of a product of more primes than \
              64-bit radicands hold (the square roots of every prime up to about 50 at once); lower \
@@ -326,7 +365,7 @@ fn working_problem(model: &Model, spectrum: &Spectrum) -> Working {
         let perm: Vec<usize> = columns.iter().map(|c| c.entries()[0].0).collect();
         let terms = model.perturbations().iter().map(|v| v.submatrix(&perm, &perm)).collect();
         let metric = vec![RatFunc::one(); perm.len()];
-        return Working { problem: Problem { energies, metric, terms }, columns, level_of };
+        return Working::new(Problem { energies, metric, terms }, columns, level_of);
     }
     let metric: Vec<RatFunc> = columns.iter().map(|u| u.conj().dot(u)).collect();
     let inv_metric: Vec<RatFunc> = metric.iter().map(|g| g.inv().expect("non-zero norm")).collect();
@@ -348,7 +387,7 @@ fn working_problem(model: &Model, spectrum: &Spectrum) -> Working {
             SparseMatrix::from_triplets(columns.len(), columns.len(), triplets)
         })
         .collect();
-    Working { problem: Problem { energies, metric, terms }, columns, level_of }
+    Working::new(Problem { energies, metric, terms }, columns, level_of)
 }
 
 /// The level indices of each model space: the `focus` lines, or every level on its own.
@@ -461,6 +500,8 @@ struct Solved {
     omega_support: Vec<BTreeSet<usize>>,
     branches: Vec<RawBranch<RatFunc>>,
     vectors: Vec<Option<Vec<SparseVec<RatFunc>>>>,
+    /// Per branch: its vector needed square roots beyond 64 bits when converted (and is `None`).
+    state_too_large: Vec<bool>,
     secular: Vec<RawSecular>,
 }
 
@@ -470,6 +511,7 @@ fn to_solved<F: Scalar>(
     raw: RawSpace<F>,
     rescaled: Option<(&fast::Rescaling, usize)>,
     states_to: usize,
+    ctx: &mut Context,
 ) -> Solved {
     let conv_vec = |v: &SparseVec<F>| -> SparseVec<RatFunc> {
         match rescaled {
@@ -480,6 +522,25 @@ fn to_solved<F: Scalar>(
         }
     };
     let omega_support = raw.omega_support;
+    // Converting back to the original basis can need square roots beyond 64 bits (the Fock states
+    // of a big oscillator); such a state is left out, and an overflow met earlier is kept.
+    ctx.radicand_overflow |= crate::exact::take_radicand_overflow();
+    let mut state_too_large = Vec::with_capacity(raw.vectors.len());
+    let vectors = raw
+        .vectors
+        .iter()
+        .map(|v| {
+            let converted =
+                v.as_ref().map(|s| s.iter().take(states_to + 1).map(conv_vec).collect());
+            let too_large = crate::exact::take_radicand_overflow();
+            state_too_large.push(too_large);
+            if too_large {
+                None
+            } else {
+                converted
+            }
+        })
+        .collect();
     Solved {
         bloch_h: raw.bloch.bloch.iter().map(|m| m.map(F::to_ratfunc)).collect(),
         hermitian: raw.bloch.hermitian.iter().map(|m| m.map(F::to_ratfunc)).collect(),
@@ -496,11 +557,8 @@ fn to_solved<F: Scalar>(
                 not_split: b.not_split.clone(),
             })
             .collect(),
-        vectors: raw
-            .vectors
-            .iter()
-            .map(|v| v.as_ref().map(|s| s.iter().take(states_to + 1).map(conv_vec).collect()))
-            .collect(),
+        vectors,
+        state_too_large,
         secular: raw.secular,
     }
 }
@@ -514,15 +572,15 @@ fn solve_fields(
     ctx: &mut Context,
 ) -> Solved {
     let problem = &working.problem;
-    if let Some(radical) = try_convert::<Radical>(problem) {
+    if let Some(radical) = working.radical() {
         if indices.len() == 1 {
-            if let Some((rational, rescaling)) = fast::rationalize(&radical) {
-                if let Ok(raw) = solve_one_state(&rational, indices[0], order, states_to) {
-                    return to_solved(raw, Some((&rescaling, indices[0])), states_to);
+            if let Some((rational, rescaling)) = working.rational() {
+                if let Ok(raw) = solve_one_state(rational, indices[0], order, states_to) {
+                    return to_solved(raw, Some((rescaling, indices[0])), states_to, ctx);
                 }
             }
         }
-        if let Ok(raw) = solve_in(&radical, indices, order, ctx) {
+        if let Ok(raw) = solve_in(radical, indices, order, ctx) {
             // A branch written with root(P, k) has its state only in rational functions, where
             // the root can stand as a symbol: repeat the model space there to get it.
             let n_params = ctx.n_params;
@@ -530,12 +588,12 @@ fn solve_fields(
                 b.energy.iter().any(|e| e.params().iter().any(|p| p.0 >= n_params))
             };
             if !raw.branches.iter().any(mentions_root) {
-                return to_solved(raw, None, states_to);
+                return to_solved(raw, None, states_to, ctx);
             }
         }
     }
     let raw = solve_in(problem, indices, order, ctx).expect("rational functions hold every value");
-    to_solved(raw, None, states_to)
+    to_solved(raw, None, states_to, ctx)
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -603,18 +661,33 @@ fn solve_model_space(
         .branches
         .iter()
         .zip(&solved.vectors)
-        .map(|(b, vec)| {
+        .zip(&solved.state_too_large)
+        .map(|((b, vec), &converted_too_large)| {
+            // A state whose square roots outgrow 64 bits is left out, not the whole derivation:
+            // an overflow met before this point is kept for `derive` to report.
+            ctx.radicand_overflow |= crate::exact::take_radicand_overflow();
             let state = vec.as_ref().and_then(|series| {
                 let product: Vec<SparseVec<RatFunc>> = series.iter().map(to_product).collect();
                 let state =
                     intermediate_normalization(product, (order - b.isolated_at).min(states_to));
                 reduce_state_roots(state, &ctx.roots, ctx.n_params)
             });
+            let too_large = crate::exact::take_radicand_overflow() || converted_too_large;
+            let state = if too_large { None } else { state };
+            let state_missing = match (&state, too_large) {
+                (Some(_), _) => None,
+                _ if b.multiplicity > 1 || b.not_split.is_some() => {
+                    Some(MissingState::GroupNotSplit)
+                }
+                (None, true) => Some(MissingState::RadicandTooLarge),
+                (None, false) => Some(MissingState::Extension),
+            };
             Branch {
                 energy: b.energy.clone(),
                 multiplicity: b.multiplicity,
                 split_at: if n_basis == 1 { None } else { b.split_at.map(|s| s as u32) },
                 state,
+                state_missing,
                 not_split: b.not_split.as_ref().map(|ns| NotSplit {
                     order: b.energy.len() as u32,
                     characteristic: ns.characteristic.clone(),
