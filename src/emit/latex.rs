@@ -12,7 +12,7 @@ use crate::check;
 use crate::engine::{Branch, Derivation, ModelSpace, Note, SecularEquation};
 use crate::exact::{Field, RatFunc};
 use crate::linalg::SparseVec;
-use crate::model::{Basis, Model, SpaceKind};
+use crate::model::{Basis, LabelField, Model};
 use num_traits::One;
 
 /// Width, in rough character units, of a displayed line before it breaks; about the text width
@@ -1072,33 +1072,29 @@ fn state(vector: &SparseVec<RatFunc>, basis: &Basis, names: &[String]) -> Tex {
 /// `\lvert 0, +\tfrac12, \mathrm{L}\rangle` for a product-basis state.
 fn ket(basis: &Basis, state_idx: usize) -> Tex {
     let labels: Vec<Tex> = basis
-        .factors(state_idx)
-        .iter()
-        .zip(basis.spaces())
-        .map(|(&local, space)| match &space.kind {
-            SpaceKind::Oscillator { .. } => Tex::new(local.to_string(), local.to_string().len()),
-            SpaceKind::Spin { .. } => match space.spin_m(local) {
-                Some(m) if m.is_integer() => {
-                    // The contract labels spin states with an explicit sign: `+1`, `0`, `-1`.
-                    let text = if m.is_positive() { format!("+{m}") } else { m.to_string() };
-                    let width = text.len();
-                    Tex::new(text, width)
-                }
-                Some(m) => {
-                    let sign = if m.is_negative() { "-" } else { "+" };
-                    let (p, q) = (m.numer().magnitude().to_string(), m.denom().to_string());
-                    let text = if p.len() == 1 && q.len() == 1 {
-                        format!("{sign}\\tfrac{p}{q}")
-                    } else {
-                        format!("{sign}\\tfrac{{{p}}}{{{q}}}")
-                    };
-                    Tex::new(text, 2 + p.len().max(q.len()))
-                }
-                None => Tex::new(escape_math(&space.state_label(local)), 2),
-            },
-            SpaceKind::Levels { labels } => {
-                let label = labels.get(local).map_or("?", String::as_str);
-                Tex::new(format!("\\mathrm{{{}}}", escape_math(label)), label.chars().count())
+        .fields(state_idx)
+        .into_iter()
+        .flatten()
+        .map(|field| match field {
+            LabelField::Count(n) => Tex::new(n.to_string(), n.to_string().len()),
+            // The contract labels spin states with an explicit sign: `+1`, `0`, `-1`.
+            LabelField::Signed(m) if m.is_integer() => {
+                let text = if m.is_positive() { format!("+{m}") } else { m.to_string() };
+                let width = text.len();
+                Tex::new(text, width)
+            }
+            LabelField::Signed(m) => {
+                let sign = if m.is_negative() { "-" } else { "+" };
+                let (p, q) = (m.numer().magnitude().to_string(), m.denom().to_string());
+                let text = if p.len() == 1 && q.len() == 1 {
+                    format!("{sign}\\tfrac{p}{q}")
+                } else {
+                    format!("{sign}\\tfrac{{{p}}}{{{q}}}")
+                };
+                Tex::new(text, 2 + p.len().max(q.len()))
+            }
+            LabelField::Name(label) => {
+                Tex::new(format!("\\mathrm{{{}}}", escape_math(&label)), label.chars().count())
             }
         })
         .collect();
@@ -1191,9 +1187,9 @@ mod tests {
     fn kets_show_each_factor_label() {
         use crate::model::Space;
         let spaces = vec![
-            Space { name: "q".into(), kind: SpaceKind::Oscillator { n_states: 3 } },
-            Space { name: "s".into(), kind: SpaceKind::Spin { twice_j: 1 } },
-            Space { name: "d".into(), kind: SpaceKind::Levels { labels: vec!["L_1".into()] } },
+            Space::new("q", Ladder::oscillator(3)),
+            Space::new("s", Spin { twice_j: 1 }),
+            Space::new("d", Levels { labels: vec!["L_1".into()] }),
         ];
         let basis = Basis::new(spaces).expect("small basis");
         // State 3 is |1, +1/2, L_1>: the oscillator index varies slowest.

@@ -248,10 +248,10 @@ fn numeric_suffix(value: &RatFunc, names: &[String], at: &ParamValues) -> String
 /// A note as one sentence.
 pub(crate) fn note_text(note: &Note) -> String {
     match note {
-        Note::Truncation { space, n_states, first_affected, sufficient } => format!(
-            "the oscillator {space} is cut at {n_states} states and the wave operator reached its \
-             top states: coefficients from order {first_affected} on may differ from the \
-             untruncated oscillator's; oscillator({sufficient}) makes every reported coefficient exact"
+        Note::Truncation { space, cut, first_affected, sufficient } => format!(
+            "the space {space} = {cut} is cut off and the wave operator reached its top states: \
+             coefficients from order {first_affected} on may differ from those of the uncut space; \
+             {sufficient} makes every reported coefficient exact"
         ),
     }
 }

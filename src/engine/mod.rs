@@ -198,17 +198,18 @@ pub struct NotSplit {
 /// Something the reader must know about a model space's results.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub enum Note {
-    /// The wave operator reached the top Fock states of a truncated oscillator, so coefficients
-    /// from order `first_affected` on may differ from those of the untruncated oscillator.
+    /// The wave operator reached the top states of a space that stands for a larger one cut off
+    /// (an oscillator, a rotor), so coefficients from order `first_affected` on may differ from
+    /// those of the uncut space.
     Truncation {
-        /// The oscillator's space name.
+        /// The space's name.
         space: String,
-        /// Its number of states.
-        n_states: usize,
+        /// Its declaration: `oscillator(40)`, `rotor(4)`.
+        cut: String,
         /// The lowest energy order that the cut can have changed.
         first_affected: u32,
-        /// A number of states that makes every reported coefficient exact.
-        sufficient: usize,
+        /// A declaration of the same space that makes every reported coefficient exact.
+        sufficient: String,
     },
 }
 

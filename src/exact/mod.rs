@@ -5,6 +5,7 @@
 #![deny(clippy::float_arithmetic)]
 
 mod algebraic;
+pub mod angular;
 mod poly;
 mod radical;
 mod ratfunc;

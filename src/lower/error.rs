@@ -129,6 +129,8 @@ pub enum LowerError {
     MissingV,
     /// `order` that is not a non-negative integer.
     BadOrder,
+    /// `order` beyond what the engine computes.
+    OrderTooLarge,
     /// A term that is not Hermitian; the message names the first offending pair of states.
     NotHermitian {
         /// The term's name, `H0` or `V2`.
@@ -147,6 +149,113 @@ pub enum LowerError {
         /// The parameter.
         name: String,
     },
+    /// `rotor(J)` with `J` not a non-negative integer.
+    BadRotor,
+    /// `ladder(n)` with `n` not a positive integer.
+    BadLadder,
+    /// `fermions(...)` with no mode, or more than a 64-bit occupation holds.
+    BadFermions,
+    /// An index on a space that is neither a family nor a fermion space.
+    NotIndexed {
+        /// The space.
+        name: String,
+    },
+    /// A family or fermion space used without an index.
+    IndexNeeded {
+        /// The family or space.
+        name: String,
+    },
+    /// An index with the wrong number of values.
+    WrongIndexCount {
+        /// How many the family or space takes.
+        expected: usize,
+        /// How many were written.
+        found: usize,
+    },
+    /// An index value outside its set.
+    IndexOutOfRange {
+        /// The value as evaluated.
+        value: String,
+        /// The set it must lie in.
+        set: String,
+    },
+    /// An index or range bound that is neither a whole number nor a name.
+    BadIndex,
+    /// A range whose end lies more than one below its start.
+    BadRange {
+        /// The range as evaluated.
+        range: String,
+    },
+    /// A `sum` with no term at all.
+    EmptySum,
+    /// An index variable named like a declared name.
+    IndexHidesName {
+        /// The name.
+        name: String,
+    },
+    /// `%` of values that are not whole numbers, or by zero.
+    BadRemainder,
+    /// A fermion operator asked of a space that holds no fermions.
+    NotFermionic {
+        /// The space.
+        name: String,
+    },
+    /// A ket-bra or `matrix` on a space that has no single-field labels (fermions, rotors).
+    NoKetBras {
+        /// The space.
+        name: String,
+    },
+    /// A sector operator that is not diagonal in the product basis.
+    SectorNotDiagonal {
+        /// A product state.
+        from: String,
+        /// Another product state the operator takes it to.
+        to: String,
+    },
+    /// A sector value or eigenvalue that is not a rational number.
+    SectorNotRational,
+    /// No product state has the sector's values.
+    EmptySector {
+        /// The values the operator does take, as text.
+        values: Vec<String>,
+    },
+    /// A term that takes a state of the sector out of it.
+    SectorBroken {
+        /// `H0` or `V2`.
+        term: String,
+        /// The sector state.
+        from: String,
+        /// The state outside the sector it reaches.
+        to: String,
+    },
+    /// A sector of a product space too large to search.
+    ProductTooLarge,
+    /// A state in `focus` that the spaces do not have.
+    UnknownState {
+        /// The ket as written.
+        ket: String,
+        /// Why: which field is wrong, or how many fields are needed.
+        why: String,
+    },
+    /// A state in `focus` that the sector leaves out.
+    StateOutsideSector {
+        /// The ket.
+        ket: String,
+    },
+    /// A state in `focus` that is not an eigenstate of H0.
+    NotAnEigenstate {
+        /// The ket.
+        ket: String,
+    },
+    /// An operator whose matrix would take too much work to form.
+    OperatorTooComplex,
+    /// Bad arguments of a coupling coefficient.
+    Coupling {
+        /// What is wrong.
+        why: String,
+    },
+    /// A `focus` line that names the same levels as an earlier one.
+    FocusRepeated,
 }
 
 /// The largest exponent `^` accepts; larger powers are surely typing mistakes and would only
@@ -215,6 +324,11 @@ impl fmt::Display for LowerError {
             LowerError::MissingH0 => write!(f, "the model has no H0"),
             LowerError::MissingV => write!(f, "the model has no perturbation V"),
             LowerError::BadOrder => write!(f, "the order must be a non-negative integer"),
+            LowerError::OrderTooLarge => write!(
+                f,
+                "the order is larger than cleave computes (at most {})",
+                crate::engine::MAX_ORDER
+            ),
             LowerError::NotHermitian { term, entry, value, mirror, mirror_conj } => write!(
                 f,
                 "{term} is not Hermitian: {entry} = {value} but conj({mirror}) = {mirror_conj}"
@@ -222,6 +336,75 @@ impl fmt::Display for LowerError {
             LowerError::NotPositive { name } => {
                 write!(f, "`{name}` is declared positive (`> 0`)")
             }
+            LowerError::BadRotor => {
+                write!(f, "a rotor needs its highest J as a non-negative whole number")
+            }
+            LowerError::BadLadder => write!(f, "a ladder needs a positive whole number of states"),
+            LowerError::BadFermions => write!(
+                f,
+                "a fermion space needs between 1 and {} modes",
+                crate::model::space::MAX_MODES
+            ),
+            LowerError::NotIndexed { name } => {
+                write!(f, "`{name}` is neither a family of spaces nor a fermion space")
+            }
+            LowerError::IndexNeeded { name } => write!(f, "`{name}` needs an index"),
+            LowerError::WrongIndexCount { expected, found } => {
+                write!(f, "the index has {found} values, expected {expected}")
+            }
+            LowerError::IndexOutOfRange { value, set } => {
+                write!(f, "index {value} is not in {set}")
+            }
+            LowerError::BadIndex => write!(f, "an index must be a whole number or a name"),
+            LowerError::BadRange { range } => write!(f, "the range {range} runs backwards"),
+            LowerError::EmptySum => write!(f, "the sum has no terms"),
+            LowerError::IndexHidesName { name } => {
+                write!(f, "index `{name}` hides a declared name")
+            }
+            LowerError::BadRemainder => {
+                write!(f, "`%` needs whole numbers and a non-zero divisor")
+            }
+            LowerError::NotFermionic { name } => write!(f, "`{name}` is not a fermion space"),
+            LowerError::NoKetBras { name } => {
+                write!(f, "the states of `{name}` cannot be used in ket-bras or `matrix`")
+            }
+            LowerError::SectorNotDiagonal { from, to } => write!(
+                f,
+                "a sector needs an operator diagonal in the product states, but this one takes \
+                 {from} to {to}"
+            ),
+            LowerError::SectorNotRational => {
+                write!(f, "a sector value must be a rational number")
+            }
+            LowerError::EmptySector { values } => write!(
+                f,
+                "no state has this value; the operator takes the values {}",
+                values.join(", ")
+            ),
+            LowerError::SectorBroken { term, from, to } => write!(
+                f,
+                "{term} does not conserve the sector: it takes {from} to {to}, which the sector \
+                 leaves out"
+            ),
+            LowerError::ProductTooLarge => write!(
+                f,
+                "the product space is too large to search for a sector (more than {} states)",
+                super::MAX_SECTOR_SEARCH
+            ),
+            LowerError::UnknownState { ket, why } => write!(f, "no state {ket}: {why}"),
+            LowerError::StateOutsideSector { ket } => {
+                write!(f, "the state {ket} is not in the sector")
+            }
+            LowerError::NotAnEigenstate { ket } => {
+                write!(f, "the state {ket} is not an eigenstate of H0")
+            }
+            LowerError::OperatorTooComplex => write!(
+                f,
+                "this operator takes more than {} steps per state to apply",
+                super::MAX_OPERATOR_COST
+            ),
+            LowerError::Coupling { why } => write!(f, "{why}"),
+            LowerError::FocusRepeated => write!(f, "this focus names the same levels again"),
         }
     }
 }

@@ -1,20 +1,26 @@
-//! Exact evaluation of expressions to scalars ([`RatFunc`]) and operators on the product space.
+//! Exact evaluation of expressions to scalars ([`RatFunc`]) and operators ([`OperatorExpr`]),
+//! with index variables of `sum(...)` in scope.
 
+use std::cell::RefCell;
 use std::collections::BTreeMap;
 
 use num_bigint::BigInt;
 
-use super::{LowerError, MAX_EXPONENT};
+use super::{LowerError, MAX_EXPONENT, MAX_OPERATOR_COST};
 use crate::diagnostics::{At, Diagnostic, Span};
+use crate::exact::angular::{clebsch_gordan, wigner_3j};
 use crate::exact::{Field, ParamId, Radical, RatFunc, Rational};
-use crate::model::{self, Basis, Space, SpaceKind, SpinOp};
+use crate::model::space::{IndexSet, IndexValue};
+use crate::model::{self, OperatorExpr, Space};
 use crate::syntax::ast;
 
-/// A value: a scalar or an operator on the whole product space.
+/// A value: a scalar, an operator on the product space, or a named index value.
 #[derive(Clone, Debug)]
 pub(super) enum Value {
     Scalar(RatFunc),
-    Operator(model::Operator),
+    Operator(OperatorExpr),
+    /// `up` while `s in [up, dn]` runs: usable only as an index.
+    Label(String),
 }
 
 /// What a name stands for.
@@ -22,43 +28,43 @@ pub(super) enum Value {
 pub(super) enum Binding {
     Param(ParamId),
     Space(usize),
+    /// `space s[1..4] = ...`: the index sets and the space of each member.
+    Family {
+        sets: Vec<IndexSet>,
+        members: BTreeMap<Vec<IndexValue>, usize>,
+    },
     Value(Value),
 }
 
-/// The names in scope and the product basis operators live on.
+/// The names in scope and the spaces operators act on.
 pub(super) struct Scope {
     names: BTreeMap<String, Binding>,
-    basis: Basis,
+    spaces: Vec<Space>,
+    /// Index variables of the `sum`s being evaluated, innermost last.
+    locals: RefCell<Vec<(String, Value)>>,
 }
 
 impl Scope {
-    /// A scope knowing the parameters (`params[k]` is `ParamId(k)`) and nothing else.
-    pub(super) fn new(basis: Basis, params: &[String]) -> Scope {
+    /// A scope knowing the parameters (`params[k]` is `ParamId(k)`) and the spaces.
+    pub(super) fn new(spaces: Vec<Space>, params: &[String]) -> Scope {
         let mut names = BTreeMap::new();
         for (k, name) in params.iter().enumerate() {
             let id = ParamId(u32::try_from(k).unwrap_or(u32::MAX));
             names.insert(name.clone(), Binding::Param(id));
         }
-        Scope { names, basis }
+        Scope { names, spaces, locals: RefCell::new(Vec::new()) }
     }
 
     pub(super) fn bind(&mut self, name: &str, binding: Binding) {
         self.names.insert(name.to_string(), binding);
     }
 
-    pub(super) fn basis(&self) -> &Basis {
-        &self.basis
-    }
-
-    pub(super) fn dimension(&self) -> usize {
-        self.basis.dimension()
-    }
-
     /// A scalar as `scalar * identity`; an operator as itself.
-    pub(super) fn to_operator(&self, value: Value) -> model::Operator {
+    pub(super) fn to_operator(&self, value: Value) -> Option<OperatorExpr> {
         match value {
-            Value::Scalar(scalar) => model::scalar_operator(self.dimension(), scalar),
-            Value::Operator(operator) => operator,
+            Value::Scalar(scalar) => Some(OperatorExpr::identity().scale(&scalar)),
+            Value::Operator(operator) => Some(operator),
+            Value::Label(_) => None,
         }
     }
 
@@ -66,53 +72,75 @@ impl Scope {
     pub(super) fn as_rational(&self, value: &Value) -> Option<Rational> {
         match value {
             Value::Scalar(scalar) => scalar.as_constant().and_then(|c| c.as_rational()),
-            Value::Operator(_) => None,
+            _ => None,
         }
     }
 
     /// Evaluates an expression. Recursion depth is bounded by the syntax limits on nesting and
-    /// on operators per line.
+    /// on operators per statement.
     pub(super) fn eval(&self, expr: &ast::Expr) -> Result<Value, Diagnostic> {
-        match &expr.kind {
+        let value = match &expr.kind {
             ast::ExprKind::Number(text) => {
                 let value = parse_number(text).at(expr.span)?;
-                Ok(Value::Scalar(RatFunc::from_rational(&value)))
+                Value::Scalar(RatFunc::from_rational(&value))
             }
-            ast::ExprKind::Name(name) => self.eval_name(name, expr.span),
-            ast::ExprKind::Member { space, member } => self.eval_member(space, member),
-            ast::ExprKind::KetBra { ket, bra } => self.eval_ket_bra(ket, bra),
-            ast::ExprKind::Call { function, args } => self.eval_call(function, args, expr.span),
-            ast::ExprKind::Matrix { space, rows } => self.eval_matrix(space, rows, expr.span),
-            ast::ExprKind::Neg(operand) => Ok(match self.eval(operand)? {
+            ast::ExprKind::Name(name) => self.eval_name(name, expr.span)?,
+            ast::ExprKind::Member { space, index, member } => {
+                self.eval_member(space, index.as_deref(), member)?
+            }
+            ast::ExprKind::KetBra { ket, bra } => self.eval_ket_bra(ket, bra)?,
+            ast::ExprKind::Call { function, args } => self.eval_call(function, args, expr.span)?,
+            ast::ExprKind::Matrix { space, rows } => self.eval_matrix(space, rows, expr.span)?,
+            ast::ExprKind::Sum { binders, body } => self.eval_sum(binders, body, expr.span)?,
+            ast::ExprKind::Neg(operand) => match self.eval(operand)? {
                 Value::Scalar(s) => Value::Scalar(-s),
                 Value::Operator(o) => Value::Operator(o.scale(&-RatFunc::one())),
-            }),
-            ast::ExprKind::Binary { op, lhs, rhs } => self.eval_binary(*op, lhs, rhs),
+                Value::Label(_) => return Err(LowerError::BadIndex).at(operand.span),
+            },
+            ast::ExprKind::Binary { op, lhs, rhs } => self.eval_binary(*op, lhs, rhs)?,
+        };
+        if let Value::Operator(operator) = &value {
+            if operator.cost() > MAX_OPERATOR_COST {
+                return Err(LowerError::OperatorTooComplex)
+                    .at(expr.span)
+                    .map_err(|d| d.with_hint("build large powers from smaller pieces, or use a sector"));
+            }
         }
+        Ok(value)
+    }
+
+    fn local(&self, name: &str) -> Option<Value> {
+        let locals = self.locals.borrow();
+        locals.iter().rev().find(|(n, _)| n == name).map(|(_, v)| v.clone())
     }
 
     fn eval_name(&self, name: &str, span: Span) -> Result<Value, Diagnostic> {
+        if let Some(value) = self.local(name) {
+            return Ok(value);
+        }
         match self.names.get(name) {
             Some(Binding::Param(id)) => Ok(Value::Scalar(RatFunc::param(*id))),
             Some(Binding::Value(value)) => Ok(value.clone()),
             Some(Binding::Space(idx)) => {
-                let hint = match &self.basis.spaces()[*idx].kind {
-                    SpaceKind::Oscillator { .. } => {
-                        format!("use `{name}.lower`, `{name}.raise` or `{name}.n`")
-                    }
-                    SpaceKind::Spin { .. } => format!("use `{name}.x`, `{name}.y` or `{name}.z`"),
-                    SpaceKind::Levels { .. } => "use ket-bras of its states, like `|A><B|`".into(),
-                };
+                let kind = self.spaces[*idx].kind();
+                let hint = format!("its operators are {}", kind.operator_names());
                 Err(LowerError::SpaceAsValue { name: name.to_string() })
                     .at(span)
                     .map_err(|d| d.with_hint(hint))
+            }
+            Some(Binding::Family { .. }) => {
+                Err(LowerError::SpaceAsValue { name: name.to_string() }).at(span).map_err(|d| {
+                    d.with_hint(format!("name a member and an operator, like `{name}[1].z`"))
+                })
             }
             None if name == "i" => Ok(Value::Scalar(RatFunc::constant(Radical::i()))),
             None => {
                 let err = Err(LowerError::UnknownName { name: name.to_string() }).at(span);
                 match self.suggest(name) {
                     Some(close) => err.map_err(|d| d.with_hint(format!("did you mean `{close}`?"))),
-                    None => err,
+                    None => err.map_err(|d| {
+                        d.with_hint(format!("declare a real symbol with `param {name}`"))
+                    }),
                 }
             }
         }
@@ -128,49 +156,203 @@ impl Scope {
             .map(|(_, known)| known)
     }
 
-    fn space(&self, ident: &ast::Ident) -> Result<(usize, &Space), Diagnostic> {
-        match self.names.get(&ident.name) {
-            Some(Binding::Space(idx)) => Ok((*idx, &self.basis.spaces()[*idx])),
-            Some(_) => Err(LowerError::NotASpace { name: ident.name.clone() }).at(ident.span),
-            None => Err(LowerError::UnknownName { name: ident.name.clone() }).at(ident.span),
+    /// An index value: a bound index variable, a bare name (a value of a named set), or a
+    /// whole number.
+    fn eval_index_value(&self, expr: &ast::Expr) -> Result<IndexValue, Diagnostic> {
+        if let ast::ExprKind::Name(name) = &expr.kind {
+            if self.local(name).is_none() && !self.names.contains_key(name) {
+                return Ok(IndexValue::Name(name.clone()));
+            }
+        }
+        match self.eval(expr)? {
+            Value::Label(name) => Ok(IndexValue::Name(name)),
+            value => self
+                .as_rational(&value)
+                .filter(Rational::is_integer)
+                .and_then(|r| r.to_i64())
+                .map(IndexValue::Int)
+                .ok_or(LowerError::BadIndex)
+                .at(expr.span),
         }
     }
 
-    fn eval_member(&self, space: &ast::Ident, member: &ast::Ident) -> Result<Value, Diagnostic> {
-        let (space_idx, factor) = self.space(space)?;
-        let local = match (&factor.kind, member.name.as_str()) {
-            (SpaceKind::Oscillator { n_states }, "lower") => Some(Space::lower(*n_states)),
-            (SpaceKind::Oscillator { n_states }, "raise") => Some(Space::raise(*n_states)),
-            (SpaceKind::Oscillator { n_states }, "n") => Some(Space::number(*n_states)),
-            (SpaceKind::Spin { twice_j }, name) => {
-                let op = match name {
-                    "x" => Some(SpinOp::X),
-                    "y" => Some(SpinOp::Y),
-                    "z" => Some(SpinOp::Z),
-                    "up" => Some(SpinOp::Up),
-                    "down" => Some(SpinOp::Down),
-                    _ => None,
-                };
-                op.map(|op| Space::spin(*twice_j, op))
+    fn eval_index(
+        &self,
+        sets: &[IndexSet],
+        index: &[ast::Expr],
+        span: Span,
+    ) -> Result<Vec<IndexValue>, Diagnostic> {
+        if index.len() != sets.len() {
+            return Err(LowerError::WrongIndexCount { expected: sets.len(), found: index.len() })
+                .at(span);
+        }
+        let mut values = Vec::with_capacity(index.len());
+        for (set, expr) in sets.iter().zip(index) {
+            let value = self.eval_index_value(expr)?;
+            if set.position(&value).is_none() {
+                return Err(LowerError::IndexOutOfRange {
+                    value: value.to_string(),
+                    set: set.to_string(),
+                })
+                .at(expr.span);
             }
-            _ => None,
+            values.push(value);
+        }
+        Ok(values)
+    }
+
+    /// The factor a (possibly indexed) space name refers to, with the index left over for a
+    /// fermion space's mode.
+    fn resolve_space<'a>(
+        &self,
+        ident: &ast::Ident,
+        index: Option<&'a [ast::Expr]>,
+    ) -> Result<(usize, Option<&'a [ast::Expr]>), Diagnostic> {
+        let index_span = |index: &[ast::Expr]| {
+            index.iter().fold(ident.span, |acc, e| acc.to(e.span))
+        };
+        match (self.names.get(&ident.name), index) {
+            (Some(Binding::Space(idx)), index) => Ok((*idx, index)),
+            (Some(Binding::Family { sets, members }), Some(index)) => {
+                let values = self.eval_index(sets, index, index_span(index))?;
+                Ok((members[&values], None))
+            }
+            (Some(Binding::Family { .. }), None) => {
+                Err(LowerError::IndexNeeded { name: ident.name.clone() }).at(ident.span)
+            }
+            (Some(_), _) => Err(LowerError::NotASpace { name: ident.name.clone() }).at(ident.span),
+            (None, _) => Err(LowerError::UnknownName { name: ident.name.clone() }).at(ident.span),
+        }
+    }
+
+    fn eval_member(
+        &self,
+        space: &ast::Ident,
+        index: Option<&[ast::Expr]>,
+        member: &ast::Ident,
+    ) -> Result<Value, Diagnostic> {
+        let (space_idx, mode_index) = self.resolve_space(space, index)?;
+        let factor = &self.spaces[space_idx];
+        let kind = factor.kind();
+        let local = match (kind.fermions(), mode_index) {
+            (Some(fermions), Some(index)) => {
+                let span = index.iter().fold(space.span, |acc, e| acc.to(e.span));
+                let values = self.eval_index(fermions.index_sets(), index, span)?;
+                let mode = fermions.mode(&values).expect("index checked against its sets");
+                model::space::mode_operator(fermions, mode, &member.name)
+            }
+            (Some(_), None) => {
+                return Err(LowerError::IndexNeeded { name: space.name.clone() })
+                    .at(space.span)
+                    .map_err(|d| d.with_hint(format!("name a mode: {}", kind.operator_names())))
+            }
+            (None, Some(_)) => {
+                return Err(LowerError::NotIndexed { name: factor.name.clone() }).at(space.span)
+            }
+            (None, None) => kind.operator(&member.name),
         };
         match local {
-            Some(local) => Ok(Value::Operator(self.basis.embed(space_idx, &local))),
+            Some(local) => Ok(Value::Operator(OperatorExpr::from_local(space_idx, local))),
             None => {
-                let hint = match &factor.kind {
-                    SpaceKind::Oscillator { .. } => "an oscillator has `lower`, `raise` and `n`",
-                    SpaceKind::Spin { .. } => "a spin has `x`, `y`, `z`, `up` and `down`",
-                    SpaceKind::Levels { .. } => {
-                        "a levels space has no named operators; write ket-bras like `|A><B|`"
-                    }
-                };
+                if matches!(member.name.as_str(), "create" | "annihilate") && kind.fermions().is_none()
+                {
+                    return Err(LowerError::NotFermionic { name: factor.name.clone() })
+                        .at(member.span)
+                        .map_err(|d| d.with_hint(format!("its operators are {}", kind.operator_names())));
+                }
                 Err(LowerError::UnknownMember {
-                    space: space.name.clone(),
+                    space: factor.name.clone(),
                     member: member.name.clone(),
                 })
                 .at(member.span)
-                .map_err(|d| d.with_hint(hint))
+                .map_err(|d| d.with_hint(format!("its operators are {}", kind.operator_names())))
+            }
+        }
+    }
+
+    /// `sum(i in 1..N, s in [up, dn]: body)`: every combination, later sets evaluated with the
+    /// earlier indices bound.
+    fn eval_sum(
+        &self,
+        binders: &[ast::Binder],
+        body: &ast::Expr,
+        span: Span,
+    ) -> Result<Value, Diagnostic> {
+        for binder in binders {
+            let name = &binder.name.name;
+            if self.names.contains_key(name) || self.local(name).is_some() || name == "i" {
+                return Err(LowerError::IndexHidesName { name: name.clone() }).at(binder.name.span);
+            }
+        }
+        let mut acc: Option<Value> = None;
+        self.sum_over(binders, body, &mut acc)?;
+        acc.ok_or(LowerError::EmptySum).at(span)
+    }
+
+    fn sum_over(
+        &self,
+        binders: &[ast::Binder],
+        body: &ast::Expr,
+        acc: &mut Option<Value>,
+    ) -> Result<(), Diagnostic> {
+        let Some((binder, rest)) = binders.split_first() else {
+            let term = self.eval(body)?;
+            *acc = Some(match acc.take() {
+                None => term,
+                Some(sum) => add_values(sum, term).at(body.span)?,
+            });
+            return Ok(());
+        };
+        let set = self.eval_index_set(&binder.set, true)?;
+        for value in set.values() {
+            let value = match value {
+                IndexValue::Int(n) => Value::Scalar(RatFunc::from_i64(n)),
+                IndexValue::Name(name) => Value::Label(name),
+            };
+            self.locals.borrow_mut().push((binder.name.name.clone(), value));
+            let res = self.sum_over(rest, body, acc);
+            self.locals.borrow_mut().pop();
+            res?;
+        }
+        Ok(())
+    }
+
+    /// Evaluates `1..N` or `[up, dn]`. A range may end one below its start (it is then empty,
+    /// as `j in i+1..N` is when `i = N`) only where `allow_empty`.
+    pub(super) fn eval_index_set(
+        &self,
+        set: &ast::IndexSetExpr,
+        allow_empty: bool,
+    ) -> Result<IndexSet, Diagnostic> {
+        match set {
+            ast::IndexSetExpr::Range { first, last, span } => {
+                let bound = |expr: &ast::Expr| -> Result<i64, Diagnostic> {
+                    let value = self.eval(expr)?;
+                    self.as_rational(&value)
+                        .filter(Rational::is_integer)
+                        .and_then(|r| r.to_i64())
+                        .filter(|n| n.abs() <= 1_000_000)
+                        .ok_or(LowerError::BadIndex)
+                        .at(expr.span)
+                };
+                let (first, last) = (bound(first)?, bound(last)?);
+                let empty_ok = allow_empty && last == first - 1;
+                if last < first && !empty_ok {
+                    return Err(LowerError::BadRange { range: format!("{first}..{last}") })
+                        .at(*span);
+                }
+                Ok(IndexSet::Range { first, last })
+            }
+            ast::IndexSetExpr::Names { names, .. } => {
+                let mut seen: Vec<String> = Vec::new();
+                for name in names {
+                    if seen.contains(&name.name) {
+                        return Err(LowerError::DuplicateLevel { label: name.name.clone() })
+                            .at(name.span);
+                    }
+                    seen.push(name.name.clone());
+                }
+                Ok(IndexSet::Names(seen))
             }
         }
     }
@@ -183,13 +365,19 @@ impl Scope {
     ) -> Result<Value, Diagnostic> {
         let (name, arity): (&'static str, usize) = match function.name.as_str() {
             "sqrt" => ("sqrt", 1),
+            "dagger" => ("dagger", 1),
             "adj" => ("adj", 1),
             "comm" => ("comm", 2),
+            "cg" => ("cg", 6),
+            "threej" => ("threej", 6),
             _ => {
                 return Err(LowerError::UnknownFunction { name: function.name.clone() })
                     .at(function.span)
                     .map_err(|d| {
-                        d.with_hint("the functions are `sqrt`, `adj`, `comm` and `matrix`")
+                        d.with_hint(
+                            "the functions are `sqrt`, `dagger` (also `adj`), `comm`, `cg`, \
+                             `threej`, `sum` and `matrix`",
+                        )
                     })
             }
         };
@@ -213,17 +401,58 @@ impl Scope {
                 }
                 Ok(Value::Scalar(RatFunc::constant(Radical::sqrt_of(&radicand))))
             }
-            "adj" => Ok(match self.eval(&args[0])? {
-                Value::Scalar(s) => Value::Scalar(s.conj()),
-                Value::Operator(o) => Value::Operator(o.adjoint()),
-            }),
+            "dagger" | "adj" => match self.eval(&args[0])? {
+                Value::Scalar(s) => Ok(Value::Scalar(s.conj())),
+                Value::Operator(o) => Ok(Value::Operator(o.adjoint())),
+                Value::Label(_) => Err(LowerError::BadIndex).at(args[0].span),
+            },
+            "cg" | "threej" => {
+                let mut twice = [0i64; 6];
+                for (slot, arg) in twice.iter_mut().zip(args) {
+                    let value = self.eval(arg)?;
+                    *slot = self
+                        .as_rational(&value)
+                        .map(|r| r * Rational::from_i64(2))
+                        .filter(Rational::is_integer)
+                        .and_then(|r| r.to_i64())
+                        .ok_or_else(|| LowerError::Coupling {
+                            why: "angular momenta and projections must be multiples of 1/2"
+                                .into(),
+                        })
+                        .at(arg.span)?;
+                }
+                let res = if name == "cg" {
+                    clebsch_gordan(twice[0], twice[1], twice[2], twice[3], twice[4], twice[5])
+                } else {
+                    wigner_3j([twice[0], twice[1], twice[2]], [twice[3], twice[4], twice[5]])
+                };
+                let value =
+                    res.map_err(|e| LowerError::Coupling { why: e.to_string() }).at(span)?;
+                Ok(Value::Scalar(RatFunc::constant(value)))
+            }
             _ => {
                 let a = self.eval(&args[0])?;
                 let b = self.eval(&args[1])?;
-                let (a, b) = (self.to_operator(a), self.to_operator(b));
+                let a = self.to_operator(a).ok_or(LowerError::BadIndex).at(args[0].span)?;
+                let b = self.to_operator(b).ok_or(LowerError::BadIndex).at(args[1].span)?;
                 Ok(Value::Operator(a.mul(&b).sub(&b.mul(&a))))
             }
         }
+    }
+
+    fn ket_bra_space(&self, ident: &ast::Ident, index: Option<&[ast::Expr]>) -> Result<usize, Diagnostic> {
+        let (idx, rest) = self.resolve_space(ident, index)?;
+        if rest.is_some() {
+            return Err(LowerError::NotIndexed { name: self.spaces[idx].name.clone() })
+                .at(ident.span);
+        }
+        let space = &self.spaces[idx];
+        if !space.kind().has_ket_bras() || space.kind().n_fields() != 1 {
+            return Err(LowerError::NoKetBras { name: space.name.clone() })
+                .at(ident.span)
+                .map_err(|d| d.with_hint(format!("its operators are {}", space.kind().operator_names())));
+        }
+        Ok(idx)
     }
 
     fn eval_matrix(
@@ -232,8 +461,8 @@ impl Scope {
         rows: &[ast::MatrixRow],
         span: Span,
     ) -> Result<Value, Diagnostic> {
-        let (space_idx, factor) = self.space(space)?;
-        let n = factor.dimension();
+        let space_idx = self.ket_bra_space(space, None)?;
+        let n = self.spaces[space_idx].dimension();
         if rows.len() != n {
             return Err(LowerError::MatrixRows {
                 space: space.name.clone(),
@@ -255,7 +484,7 @@ impl Scope {
             for (col_idx, entry) in row.entries.iter().enumerate() {
                 match self.eval(entry)? {
                     Value::Scalar(value) => triplets.push((row_idx, col_idx, value)),
-                    Value::Operator(_) => {
+                    _ => {
                         return Err(LowerError::Expected {
                             what: "a matrix entry must be a scalar, not an operator",
                         })
@@ -265,7 +494,7 @@ impl Scope {
             }
         }
         let local = model::Operator::from_triplets(n, n, triplets);
-        Ok(Value::Operator(self.basis.embed(space_idx, &local)))
+        Ok(Value::Operator(OperatorExpr::local(space_idx, local)))
     }
 
     fn eval_binary(
@@ -276,39 +505,28 @@ impl Scope {
     ) -> Result<Value, Diagnostic> {
         let left = self.eval(lhs)?;
         if op == ast::BinaryOp::Pow {
-            return self.eval_power(left, rhs, lhs.span.to(rhs.span));
+            return self.eval_power(left, lhs, rhs);
         }
         let right = self.eval(rhs)?;
-        let minus_one = -RatFunc::one();
+        for (value, expr) in [(&left, lhs), (&right, rhs)] {
+            if matches!(value, Value::Label(_)) {
+                return Err(LowerError::BadIndex).at(expr.span);
+            }
+        }
         Ok(match (op, left, right) {
-            (ast::BinaryOp::Add, Value::Scalar(a), Value::Scalar(b)) => Value::Scalar(a + b),
-            (ast::BinaryOp::Sub, Value::Scalar(a), Value::Scalar(b)) => Value::Scalar(a - b),
+            (ast::BinaryOp::Add, a, b) => add_values(a, b).at(lhs.span.to(rhs.span))?,
+            (ast::BinaryOp::Sub, a, b) => {
+                add_values(a, negate(b)).at(lhs.span.to(rhs.span))?
+            }
             (ast::BinaryOp::Mul, Value::Scalar(a), Value::Scalar(b)) => Value::Scalar(a * b),
-            (ast::BinaryOp::Add, Value::Operator(a), Value::Operator(b)) => {
-                Value::Operator(a.add(&b))
-            }
-            (ast::BinaryOp::Sub, Value::Operator(a), Value::Operator(b)) => {
-                Value::Operator(a.sub(&b))
-            }
             (ast::BinaryOp::Mul, Value::Operator(a), Value::Operator(b)) => {
                 Value::Operator(a.mul(&b))
-            }
-            // A scalar next to an operator in a sum is that scalar times the identity.
-            (ast::BinaryOp::Add, Value::Scalar(s), Value::Operator(o))
-            | (ast::BinaryOp::Add, Value::Operator(o), Value::Scalar(s)) => {
-                Value::Operator(o.add_identity(&s))
-            }
-            (ast::BinaryOp::Sub, Value::Operator(o), Value::Scalar(s)) => {
-                Value::Operator(o.add_identity(&-s))
-            }
-            (ast::BinaryOp::Sub, Value::Scalar(s), Value::Operator(o)) => {
-                Value::Operator(o.scale(&minus_one).add_identity(&s))
             }
             (ast::BinaryOp::Mul, Value::Scalar(s), Value::Operator(o))
             | (ast::BinaryOp::Mul, Value::Operator(o), Value::Scalar(s)) => {
                 Value::Operator(o.scale(&s))
             }
-            (ast::BinaryOp::Div, _, Value::Operator(_)) => {
+            (ast::BinaryOp::Div | ast::BinaryOp::Rem, _, Value::Operator(_)) => {
                 return Err(LowerError::DivisionByOperator).at(rhs.span);
             }
             (ast::BinaryOp::Div, left, Value::Scalar(divisor)) => {
@@ -316,9 +534,22 @@ impl Scope {
                 match left {
                     Value::Scalar(s) => Value::Scalar(s * inverse),
                     Value::Operator(o) => Value::Operator(o.scale(&inverse)),
+                    Value::Label(_) => unreachable!("labels are refused above"),
                 }
             }
-            (ast::BinaryOp::Pow, ..) => unreachable!("powers are handled above"),
+            (ast::BinaryOp::Rem, left, Value::Scalar(divisor)) => {
+                let whole = |v: &Value| {
+                    self.as_rational(v).filter(Rational::is_integer).and_then(|r| r.to_i64())
+                };
+                let (a, b) = (whole(&left), whole(&Value::Scalar(divisor)));
+                match (a, b) {
+                    (Some(a), Some(b)) if b != 0 => {
+                        Value::Scalar(RatFunc::from_i64(a.rem_euclid(b.abs())))
+                    }
+                    _ => return Err(LowerError::BadRemainder).at(lhs.span.to(rhs.span)),
+                }
+            }
+            _ => unreachable!("every pairing is handled above"),
         })
     }
 
@@ -327,11 +558,12 @@ impl Scope {
     fn eval_power(
         &self,
         base: Value,
+        base_expr: &ast::Expr,
         exponent: &ast::Expr,
-        span: Span,
     ) -> Result<Value, Diagnostic> {
+        let span = base_expr.span.to(exponent.span);
         let exponent_value = self.eval(exponent)?;
-        if let Value::Operator(_) = exponent_value {
+        if !matches!(exponent_value, Value::Scalar(_)) {
             return Err(LowerError::Expected {
                 what: "the exponent must be a scalar, not an operator",
             })
@@ -339,6 +571,7 @@ impl Scope {
         }
         let rational = self.as_rational(&exponent_value);
         let n = match (&base, rational) {
+            (Value::Label(_), _) => return Err(LowerError::BadIndex).at(base_expr.span),
             (Value::Operator(_), Some(r)) if !r.is_integer() || r.is_negative() => {
                 return Err(LowerError::BadOperatorPower).at(exponent.span);
             }
@@ -356,27 +589,33 @@ impl Scope {
                 let power = s.pow(exponent).ok_or(LowerError::DivisionByZero).at(span)?;
                 Ok(Value::Scalar(power))
             }
-            Value::Operator(o) => Ok(Value::Operator(operator_power(&o, n as u64))),
+            Value::Operator(o) => Ok(Value::Operator(o.pow(n as u64))),
+            Value::Label(_) => unreachable!("refused above"),
         }
     }
 
-    /// Which spaces have a state with this label.
-    fn candidates(&self, label: &ast::LocalLabel) -> Vec<usize> {
-        (0..self.basis.spaces().len())
-            .filter(|idx| local_state(&self.basis.spaces()[*idx], label).is_some())
+    /// Which single-label spaces have a state with this label.
+    fn candidates(&self, label: &str) -> Vec<usize> {
+        (0..self.spaces.len())
+            .filter(|idx| {
+                let kind = self.spaces[*idx].kind();
+                kind.has_ket_bras() && kind.n_fields() == 1 && kind.find_state(&[label]).is_some()
+            })
             .collect()
     }
 
     /// Resolves `|ket><bra|` to a factor and two of its states; a qualified label on either side
     /// fixes the factor for both.
     fn eval_ket_bra(&self, ket: &ast::Label, bra: &ast::Label) -> Result<Value, Diagnostic> {
-        let qualified = [ket, bra].into_iter().find_map(|label| label.space.as_ref());
+        let qualified = [ket, bra].into_iter().find(|label| label.space.is_some());
         let space_idx = match qualified {
-            Some(ident) => {
-                let (idx, _) = self.space(ident)?;
+            Some(label) => {
+                let ident = label.space.as_ref().expect("qualified");
+                let idx = self.ket_bra_space(ident, label.space_index.as_deref())?;
                 for label in [ket, bra] {
                     if let Some(other) = &label.space {
-                        let (other_idx, _) = self.space(other)?;
+                        let other_idx =
+                            self.ket_bra_space(other, label.space_index.as_deref())?;
                         if other_idx != idx {
                             return Err(LowerError::LabelsOnDifferentSpaces).at(label.span);
                         }
@@ -385,8 +624,8 @@ impl Scope {
                 idx
             }
             None => {
-                let ket_spaces = self.candidates(&ket.local);
-                let bra_spaces = self.candidates(&bra.local);
+                let ket_spaces = self.candidates(&label_text(&ket.local));
+                let bra_spaces = self.candidates(&label_text(&bra.local));
                 for (label, spaces) in [(ket, &ket_spaces), (bra, &bra_spaces)] {
                     if spaces.is_empty() {
                         return Err(LowerError::UnknownLabel { label: label_text(&label.local) })
@@ -401,10 +640,8 @@ impl Scope {
                     }
                     [one] => *one,
                     several => {
-                        let spaces: Vec<String> = several
-                            .iter()
-                            .map(|idx| self.basis.spaces()[*idx].name.clone())
-                            .collect();
+                        let spaces: Vec<String> =
+                            several.iter().map(|idx| self.spaces[*idx].name.clone()).collect();
                         let example = format!("|{}.{}>", spaces[0], label_text(&ket.local));
                         return Err(LowerError::AmbiguousLabel {
                             label: label_text(&ket.local),
@@ -418,32 +655,39 @@ impl Scope {
                 }
             }
         };
-        let factor = &self.basis.spaces()[space_idx];
+        let factor = &self.spaces[space_idx];
         let mut states = [0; 2];
         for (slot, label) in states.iter_mut().zip([ket, bra]) {
-            *slot = local_state(factor, &label.local)
+            *slot = factor
+                .kind()
+                .find_state(&[&label_text(&label.local)])
                 .ok_or_else(|| LowerError::UnknownLabel { label: label_text(&label.local) })
                 .at(label.span)?;
         }
         let local = Space::ket_bra(factor.dimension(), states[0], states[1]);
-        Ok(Value::Operator(self.basis.embed(space_idx, &local)))
+        Ok(Value::Operator(OperatorExpr::local(space_idx, local)))
     }
 }
 
-/// `A^n` by repeated squaring.
-fn operator_power(operator: &model::Operator, mut n: u64) -> model::Operator {
-    let mut acc = model::Operator::identity(operator.n_rows());
-    let mut square = operator.clone();
-    while n > 0 {
-        if n & 1 == 1 {
-            acc = acc.mul(&square);
-        }
-        n >>= 1;
-        if n > 0 {
-            square = square.mul(&square);
-        }
+/// `-value`.
+fn negate(value: Value) -> Value {
+    match value {
+        Value::Scalar(s) => Value::Scalar(-s),
+        Value::Operator(o) => Value::Operator(o.scale(&-RatFunc::one())),
+        label => label,
     }
-    acc
+}
+
+/// `a + b`, where a scalar next to an operator is that scalar times the identity.
+fn add_values(a: Value, b: Value) -> Result<Value, LowerError> {
+    Ok(match (a, b) {
+        (Value::Scalar(a), Value::Scalar(b)) => Value::Scalar(a + b),
+        (Value::Operator(a), Value::Operator(b)) => Value::Operator(a.add(&b)),
+        (Value::Scalar(s), Value::Operator(o)) | (Value::Operator(o), Value::Scalar(s)) => {
+            Value::Operator(o.add_scalar(&s))
+        }
+        _ => return Err(LowerError::BadIndex),
+    })
 }
 
 /// The largest decimal exponent a literal may carry (`1e1000`).
@@ -469,45 +713,6 @@ pub(super) fn parse_number(text: &str) -> Result<Rational, LowerError> {
     let ten = Rational::from_i64(10);
     let power = ten.pow(i32::try_from(scale).map_err(|_| LowerError::NumberTooLarge)?);
     Ok(Rational::from_bigint(value) * power.expect("10 is not zero"))
-}
-
-/// A signed label `+1/2`, `-3`, `0` as a rational number.
-fn parse_signed(text: &str) -> Option<Rational> {
-    let (negative, unsigned) = match text.as_bytes().first() {
-        Some(b'-') => (true, &text[1..]),
-        Some(b'+') => (false, &text[1..]),
-        _ => (false, text),
-    };
-    let (numer, denom) = unsigned.split_once('/').unwrap_or((unsigned, "1"));
-    let numer = BigInt::parse_bytes(numer.as_bytes(), 10)?;
-    let denom = BigInt::parse_bytes(denom.as_bytes(), 10)?;
-    let value = Rational::new(numer, denom)?;
-    Some(if negative { -value } else { value })
-}
-
-/// The index of the state `label` within `space`, if it has one: a level by name, a spin state by
-/// its `m`, an oscillator state by its `n`.
-fn local_state(space: &Space, label: &ast::LocalLabel) -> Option<usize> {
-    match (&space.kind, label) {
-        (SpaceKind::Levels { labels }, ast::LocalLabel::Name(name)) => {
-            labels.iter().position(|l| l == name)
-        }
-        (SpaceKind::Spin { twice_j }, ast::LocalLabel::Number(text)) => {
-            let twice_m = parse_signed(text)? * Rational::from_i64(2);
-            let twice_m = twice_m.to_i64()?;
-            let twice_j = i64::from(*twice_j);
-            // States run m = j, j-1, ..., -j, so m sits at index j - m.
-            if twice_m.abs() > twice_j || (twice_j - twice_m) % 2 != 0 {
-                return None;
-            }
-            usize::try_from((twice_j - twice_m) / 2).ok()
-        }
-        (SpaceKind::Oscillator { n_states }, ast::LocalLabel::Number(text)) => {
-            let n = parse_signed(text)?.to_i64()?;
-            usize::try_from(n).ok().filter(|n| n < n_states)
-        }
-        _ => None,
-    }
 }
 
 fn label_text(label: &ast::LocalLabel) -> String {

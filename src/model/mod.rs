@@ -1,11 +1,16 @@
-//! The typed model: spaces, their product basis, exact operators, and the perturbation problem.
-//! Start from [`Model`]. Built by `lower` from source text or directly through the constructors
-//! here; knows nothing of source text, spans or pest.
+//! The typed model: spaces, the basis of product states, exact operators, and the perturbation
+//! problem. Start from [`Model`]. Built by `lower` from source text or directly through the
+//! constructors here (operators as [`OperatorExpr`], turned into matrices on a [`Basis`]); knows
+//! nothing of source text, spans or pest.
 #![deny(clippy::float_arithmetic)]
 
-mod space;
+mod basis;
+mod operator;
+pub mod space;
 
-pub use space::{Space, SpaceKind, SpinOp};
+pub use basis::{Basis, Key, Layout};
+pub use operator::{LeavesBasis, NotDiagonal, OperatorExpr};
+pub use space::{Kind, LabelField, Space, SpinOp};
 
 use crate::exact::{Field, RatFunc};
 use crate::linalg::SparseMatrix;
@@ -13,7 +18,7 @@ use crate::linalg::SparseMatrix;
 /// An exact operator on the product space, with entries that may depend on the parameters.
 pub type Operator = SparseMatrix<RatFunc>;
 
-/// The largest product space a model may declare.
+/// The most states a basis may have (all product states, or those a sector keeps).
 pub const MAX_DIMENSION: usize = 20_000;
 
 /// A real symbol declared with `param`.
@@ -23,73 +28,6 @@ pub struct Param {
     pub name: String,
     /// Declared `> 0`.
     pub positive: bool,
-}
-
-/// The tensor product of the declared spaces, first space's index varying slowest.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub struct Basis {
-    spaces: Vec<Space>,
-    strides: Vec<usize>,
-    dimension: usize,
-}
-
-impl Basis {
-    /// The product basis of `spaces`; `None` when it has more than [`MAX_DIMENSION`] states
-    /// (or overflows).
-    pub fn new(spaces: Vec<Space>) -> Option<Basis> {
-        let mut dimension: usize = 1;
-        for space in &spaces {
-            dimension = dimension.checked_mul(space.dimension())?;
-            if dimension > MAX_DIMENSION {
-                return None;
-            }
-        }
-        let mut strides = vec![1; spaces.len()];
-        for k in (0..spaces.len().saturating_sub(1)).rev() {
-            strides[k] = strides[k + 1] * spaces[k + 1].dimension();
-        }
-        Some(Basis { spaces, strides, dimension })
-    }
-    /// The declared spaces in order.
-    pub fn spaces(&self) -> &[Space] {
-        &self.spaces
-    }
-    /// Number of product states.
-    pub fn dimension(&self) -> usize {
-        self.dimension
-    }
-    /// The factor indices of product state `state_idx`.
-    pub fn factors(&self, state_idx: usize) -> Vec<usize> {
-        self.strides
-            .iter()
-            .zip(&self.spaces)
-            .map(|(stride, space)| (state_idx / stride) % space.dimension())
-            .collect()
-    }
-    /// The ket label of product state `state_idx`: `|a, b, c>`.
-    pub fn ket_label(&self, state_idx: usize) -> String {
-        let labels: Vec<String> = self
-            .factors(state_idx)
-            .iter()
-            .zip(&self.spaces)
-            .map(|(local, space)| space.state_label(*local))
-            .collect();
-        format!("|{}>", labels.join(", "))
-    }
-    /// Embeds an operator on factor `space_idx` into the product space (identity elsewhere).
-    pub fn embed(&self, space_idx: usize, local: &Operator) -> Operator {
-        let mut acc = Operator::identity(1);
-        for (k, space) in self.spaces.iter().enumerate() {
-            let factor =
-                if k == space_idx { local.clone() } else { Operator::identity(space.dimension()) };
-            acc = acc.kron(&factor);
-        }
-        acc
-    }
-    /// The identity on the product space.
-    pub fn identity(&self) -> Operator {
-        Operator::identity(self.dimension)
-    }
 }
 
 /// A perturbation problem `H(lambda) = H0 + lambda V1 + lambda^2 V2 + ...` on a product basis.

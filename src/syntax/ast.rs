@@ -31,6 +31,8 @@ pub enum Statement {
     Focus(FocusDecl),
     /// `order 4`
     Order(OrderDecl),
+    /// `sector N = 3, Sz = 1/2`
+    Sector(SectorDecl),
 }
 
 impl Statement {
@@ -43,6 +45,7 @@ impl Statement {
             Statement::Term(def) => def.span,
             Statement::Focus(decl) => decl.span,
             Statement::Order(decl) => decl.span,
+            Statement::Sector(decl) => decl.span,
         }
     }
 }
@@ -76,11 +79,14 @@ pub struct ParamItem {
     pub span: Span,
 }
 
-/// `space s = spin(3/2)`: one factor of the product space.
+/// `space s = spin(3/2)`: one factor of the product space, or `space s[1..4] = spin(1/2)`: a
+/// family of them.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct SpaceDecl {
     /// The space's name.
     pub name: Ident,
+    /// `[1..4]`: the index sets of a family, if it is one.
+    pub family: Option<Vec<IndexSetExpr>>,
     /// What kind of space it is.
     pub kind: SpaceKind,
     /// The whole statement.
@@ -111,6 +117,68 @@ pub enum SpaceKind {
         /// `levels(...)`.
         span: Span,
     },
+    /// `ladder(3)`: states `|0> ... |2>` that are the whole model.
+    Ladder {
+        /// The number of states, an expression that must be a positive integer.
+        n_states: Expr,
+        /// `ladder(...)`.
+        span: Span,
+    },
+    /// `rotor(4)`: a linear rotor's `|J, M>` for `J = 0..4`.
+    Rotor {
+        /// The highest `J`, an expression that must be a non-negative integer.
+        j_max: Expr,
+        /// `rotor(...)`.
+        span: Span,
+    },
+    /// `fermions(1..4, [up, dn])`: one fermionic mode per combination of the index sets.
+    Fermions {
+        /// The index sets.
+        index_sets: Vec<IndexSetExpr>,
+        /// `fermions(...)`.
+        span: Span,
+    },
+}
+
+/// A set of index values: `1..N` or `[up, dn]`.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum IndexSetExpr {
+    /// `1..N`: the integers from the first to the last, both included.
+    Range {
+        /// The first value.
+        first: Expr,
+        /// The last value.
+        last: Expr,
+        /// `1..N`.
+        span: Span,
+    },
+    /// `[up, dn]`: named values.
+    Names {
+        /// The names in order.
+        names: Vec<Ident>,
+        /// `[...]`.
+        span: Span,
+    },
+}
+
+impl IndexSetExpr {
+    /// The span of the whole set.
+    pub fn span(&self) -> Span {
+        match self {
+            IndexSetExpr::Range { span, .. } | IndexSetExpr::Names { span, .. } => *span,
+        }
+    }
+}
+
+/// `i in 1..N` inside a `sum(...)`.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Binder {
+    /// The index variable.
+    pub name: Ident,
+    /// The values it runs over.
+    pub set: IndexSetExpr,
+    /// The whole binder.
+    pub span: Span,
 }
 
 impl SpaceKind {
@@ -119,7 +187,10 @@ impl SpaceKind {
         match self {
             SpaceKind::Oscillator { span, .. }
             | SpaceKind::Spin { span, .. }
-            | SpaceKind::Levels { span, .. } => *span,
+            | SpaceKind::Levels { span, .. }
+            | SpaceKind::Ladder { span, .. }
+            | SpaceKind::Rotor { span, .. }
+            | SpaceKind::Fermions { span, .. } => *span,
         }
     }
 }
@@ -146,12 +217,61 @@ pub struct TermDef {
     pub span: Span,
 }
 
-/// `focus 0` or `focus 0, delta`: H0 energies forming one model space.
+/// `focus 0`, `focus 0, delta` or `focus |e, 1>, |g, 2>`: H0 levels forming one model space.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct FocusDecl {
-    /// The energies, each a scalar expression.
-    pub energies: Vec<Expr>,
+    /// The levels, each named by its energy or by one of its states.
+    pub items: Vec<FocusItem>,
     /// The whole statement.
+    pub span: Span,
+}
+
+/// One level named on a `focus` line.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum FocusItem {
+    /// `delta`: the level with this H0 energy.
+    Energy(Expr),
+    /// `|e, 1>`: the level holding this product state.
+    State(StateKet),
+}
+
+impl FocusItem {
+    /// Where the item is written.
+    pub fn span(&self) -> Span {
+        match self {
+            FocusItem::Energy(expr) => expr.span,
+            FocusItem::State(ket) => ket.span,
+        }
+    }
+}
+
+/// `|e, 1>`: one product state, a label field per factor (a rotor takes two, a fermion space one
+/// per site).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct StateKet {
+    /// The fields as written, with where each is.
+    pub fields: Vec<(String, Span)>,
+    /// The whole ket.
+    pub span: Span,
+}
+
+/// `sector N = 3, Sz = 1/2`: conserved quantities and the values kept.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct SectorDecl {
+    /// The conditions.
+    pub items: Vec<SectorItem>,
+    /// The whole statement.
+    pub span: Span,
+}
+
+/// `N = 3` on a `sector` line: a diagonal operator and its value.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct SectorItem {
+    /// The operator, which must be diagonal in the product basis.
+    pub operator: Expr,
+    /// The value kept, a rational number.
+    pub value: Expr,
+    /// `N = 3`.
     pub span: Span,
 }
 
@@ -180,12 +300,21 @@ pub enum ExprKind {
     Number(String),
     /// `g`, `x`, `i`: a name to resolve.
     Name(String),
-    /// `q.lower`, `s.z`: a member of a space.
+    /// `q.lower`, `s.z`, `s[2].z`, `c[i, up].create`: a member of a space or mode.
     Member {
         /// `q`.
         space: Ident,
+        /// `[i, up]`: the family member or fermionic mode, if indexed.
+        index: Option<Vec<Expr>>,
         /// `lower`.
         member: Ident,
+    },
+    /// `sum(i in 1..N, s in [up, dn]: expr)`.
+    Sum {
+        /// The index variables, outermost first.
+        binders: Vec<Binder>,
+        /// The summand.
+        body: Box<Expr>,
     },
     /// `|L><R|`: the operator taking state `R` to state `L`.
     KetBra {
@@ -232,6 +361,8 @@ pub enum BinaryOp {
     Mul,
     /// `/`
     Div,
+    /// `%`: the remainder of whole numbers, never negative (for periodic indices).
+    Rem,
     /// `^`
     Pow,
 }
@@ -244,6 +375,7 @@ impl BinaryOp {
             BinaryOp::Sub => "-",
             BinaryOp::Mul => "*",
             BinaryOp::Div => "/",
+            BinaryOp::Rem => "%",
             BinaryOp::Pow => "^",
         }
     }
@@ -263,6 +395,8 @@ pub struct MatrixRow {
 pub struct Label {
     /// The space it is qualified with (`d` in `d.L`), if any.
     pub space: Option<Ident>,
+    /// The family index of the qualifying space (`[2]` in `q[2].e`), if any.
+    pub space_index: Option<Vec<Expr>>,
     /// The label within its space.
     pub local: LocalLabel,
     /// The whole label.

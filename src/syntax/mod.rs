@@ -4,6 +4,7 @@
 
 pub mod ast;
 mod brackets;
+mod continuation;
 mod parser;
 
 use std::fmt;
@@ -12,8 +13,9 @@ use crate::diagnostics::Diagnostic;
 
 /// Parses a whole model file. Parsing is a pure function of the text.
 pub fn parse(text: &str) -> Result<ast::File, Diagnostic> {
-    brackets::check_brackets(text)?;
-    parser::parse_file(text)
+    let joined = continuation::join_continued_lines(text);
+    brackets::check_brackets(&joined)?;
+    parser::parse_file(&joined)
 }
 
 /// Parses one expression on its own (as in `--at g=1/8` or a value printed by `cleave`).

@@ -54,7 +54,17 @@ fn children(pair: Pair<'_, Rule>) -> Pairs<'_> {
 }
 
 fn is_keyword(rule: Rule) -> bool {
-    matches!(rule, Rule::kw_param | Rule::kw_space | Rule::kw_let | Rule::kw_focus | Rule::kw_order)
+    matches!(
+        rule,
+        Rule::kw_param
+            | Rule::kw_space
+            | Rule::kw_let
+            | Rule::kw_focus
+            | Rule::kw_order
+            | Rule::kw_sector
+            | Rule::kw_sum
+            | Rule::kw_in
+    )
 }
 
 fn parse_statement(pair: Pair<'_, Rule>) -> ast::Statement {
@@ -65,6 +75,7 @@ fn parse_statement(pair: Pair<'_, Rule>) -> ast::Statement {
         Rule::term_def => ast::Statement::Term(parse_term_def(pair)),
         Rule::focus_decl => ast::Statement::Focus(parse_focus_decl(pair)),
         Rule::order_decl => ast::Statement::Order(parse_order_decl(pair)),
+        Rule::sector_decl => ast::Statement::Sector(parse_sector_decl(pair)),
         rule => unreachable!("grammar: {rule:?} is not a statement"),
     }
 }
@@ -91,8 +102,33 @@ fn parse_space_decl(pair: Pair<'_, Rule>) -> ast::SpaceDecl {
     let span = span_of(&pair);
     let mut inner = children(pair).filter(|p| !is_keyword(p.as_rule()));
     let name = parse_ident(inner.next().expect("grammar: space name"));
-    let kind = parse_space_kind(inner.next().expect("grammar: space kind"));
-    ast::SpaceDecl { name, kind, span }
+    let mut next = inner.next().expect("grammar: space kind");
+    let family = if next.as_rule() == Rule::family {
+        let sets = next.into_inner().map(parse_index_set).collect();
+        next = inner.next().expect("grammar: space kind after family");
+        Some(sets)
+    } else {
+        None
+    };
+    let kind = parse_space_kind(next);
+    ast::SpaceDecl { name, family, kind, span }
+}
+
+/// `1..N` or `[up, dn]`.
+fn parse_index_set(pair: Pair<'_, Rule>) -> ast::IndexSetExpr {
+    let span = span_of(&pair);
+    match pair.as_rule() {
+        Rule::range => {
+            let mut inner = pair.into_inner();
+            let first = parse_expr(inner.next().expect("grammar: range start"));
+            let last = parse_expr(inner.next().expect("grammar: range end"));
+            ast::IndexSetExpr::Range { first, last, span }
+        }
+        Rule::name_set => {
+            ast::IndexSetExpr::Names { names: pair.into_inner().map(parse_ident).collect(), span }
+        }
+        rule => unreachable!("grammar: {rule:?} is not an index set"),
+    }
 }
 
 fn parse_space_kind(pair: Pair<'_, Rule>) -> ast::SpaceKind {
@@ -105,6 +141,12 @@ fn parse_space_kind(pair: Pair<'_, Rule>) -> ast::SpaceKind {
         Rule::levels => {
             ast::SpaceKind::Levels { labels: pair.into_inner().map(parse_ident).collect(), span }
         }
+        Rule::ladder => ast::SpaceKind::Ladder { n_states: parse_expr(first_inner(pair)), span },
+        Rule::rotor => ast::SpaceKind::Rotor { j_max: parse_expr(first_inner(pair)), span },
+        Rule::fermions => ast::SpaceKind::Fermions {
+            index_sets: pair.into_inner().map(parse_index_set).collect(),
+            span,
+        },
         rule => unreachable!("grammar: {rule:?} is not a space kind"),
     }
 }
@@ -127,8 +169,35 @@ fn parse_term_def(pair: Pair<'_, Rule>) -> ast::TermDef {
 
 fn parse_focus_decl(pair: Pair<'_, Rule>) -> ast::FocusDecl {
     let span = span_of(&pair);
-    let energies = children(pair).filter(|p| !is_keyword(p.as_rule())).map(parse_expr).collect();
-    ast::FocusDecl { energies, span }
+    let items = children(pair)
+        .filter(|p| !is_keyword(p.as_rule()))
+        .map(|p| match p.as_rule() {
+            Rule::state_ket => ast::FocusItem::State(parse_state_ket(p)),
+            _ => ast::FocusItem::Energy(parse_expr(p)),
+        })
+        .collect();
+    ast::FocusDecl { items, span }
+}
+
+fn parse_state_ket(pair: Pair<'_, Rule>) -> ast::StateKet {
+    let span = span_of(&pair);
+    let fields = pair.into_inner().map(|f| (f.as_str().to_string(), span_of(&f))).collect();
+    ast::StateKet { fields, span }
+}
+
+fn parse_sector_decl(pair: Pair<'_, Rule>) -> ast::SectorDecl {
+    let span = span_of(&pair);
+    let items = children(pair)
+        .filter(|p| !is_keyword(p.as_rule()))
+        .map(|item| {
+            let span = span_of(&item);
+            let mut inner = item.into_inner();
+            let operator = parse_expr(inner.next().expect("grammar: sector operator"));
+            let value = parse_expr(inner.next().expect("grammar: sector value"));
+            ast::SectorItem { operator, value, span }
+        })
+        .collect();
+    ast::SectorDecl { items, span }
 }
 
 fn parse_order_decl(pair: Pair<'_, Rule>) -> ast::OrderDecl {
@@ -162,7 +231,11 @@ fn parse_term(pair: Pair<'_, Rule>) -> ast::Expr {
     let mut inner = pair.into_inner();
     let mut acc = parse_unary(inner.next().expect("grammar: first factor"));
     while let Some(op) = inner.next() {
-        let op = if op.as_str() == "*" { ast::BinaryOp::Mul } else { ast::BinaryOp::Div };
+        let op = match op.as_str() {
+            "*" => ast::BinaryOp::Mul,
+            "/" => ast::BinaryOp::Div,
+            _ => ast::BinaryOp::Rem,
+        };
         let rhs = parse_unary(inner.next().expect("grammar: factor after operator"));
         acc = binary(op, acc, rhs);
     }
@@ -220,6 +293,7 @@ fn parse_atom(pair: Pair<'_, Rule>) -> ast::Expr {
             return ast::Expr { kind: inner.kind, span };
         }
         Rule::call => parse_call(pair),
+        Rule::sum_call => parse_sum_call(pair),
         Rule::member => parse_member(pair),
         Rule::matrix_call => parse_matrix_call(pair),
         Rule::ket_bra => parse_ket_bra(pair),
@@ -235,11 +309,41 @@ fn parse_call(pair: Pair<'_, Rule>) -> ast::ExprKind {
     ast::ExprKind::Call { function, args }
 }
 
+fn parse_sum_call(pair: Pair<'_, Rule>) -> ast::ExprKind {
+    let mut binders = Vec::new();
+    let mut body = None;
+    for child in children(pair).filter(|p| !is_keyword(p.as_rule())) {
+        match child.as_rule() {
+            Rule::binder => {
+                let span = span_of(&child);
+                let mut inner = child.into_inner().filter(|p| !is_keyword(p.as_rule()));
+                let name = parse_ident(inner.next().expect("grammar: index variable"));
+                let set = parse_index_set(inner.next().expect("grammar: index set"));
+                binders.push(ast::Binder { name, set, span });
+            }
+            _ => body = Some(parse_expr(child)),
+        }
+    }
+    ast::ExprKind::Sum { binders, body: Box::new(body.expect("grammar: sum has a body")) }
+}
+
+fn parse_index(pair: Pair<'_, Rule>) -> Vec<ast::Expr> {
+    pair.into_inner().map(parse_expr).collect()
+}
+
 fn parse_member(pair: Pair<'_, Rule>) -> ast::ExprKind {
     let mut inner = pair.into_inner();
     let space = parse_ident(inner.next().expect("grammar: member's space"));
-    let member = parse_ident(inner.next().expect("grammar: member's name"));
-    ast::ExprKind::Member { space, member }
+    let mut next = inner.next().expect("grammar: member's name");
+    let index = if next.as_rule() == Rule::index {
+        let index = parse_index(next);
+        next = inner.next().expect("grammar: member's name after index");
+        Some(index)
+    } else {
+        None
+    };
+    let member = parse_ident(next);
+    ast::ExprKind::Member { space, index, member }
 }
 
 fn parse_matrix_call(pair: Pair<'_, Rule>) -> ast::ExprKind {
@@ -266,12 +370,16 @@ fn parse_label(pair: Pair<'_, Rule>) -> ast::Label {
     let span = span_of(&pair);
     let mut parts: Vec<Pair<'_, Rule>> = pair.into_inner().collect();
     let local = parts.pop().expect("grammar: label has a local part");
+    let space_index = match parts.last() {
+        Some(p) if p.as_rule() == Rule::index => parts.pop().map(parse_index),
+        _ => None,
+    };
     let space = parts.pop().map(parse_ident);
     let local = match local.as_rule() {
         Rule::signed => ast::LocalLabel::Number(local.as_str().to_string()),
         _ => ast::LocalLabel::Name(local.as_str().to_string()),
     };
-    ast::Label { space, local, span }
+    ast::Label { space, space_index, local, span }
 }
 
 /// Turns a pest error into a diagnostic that says, in words, what was expected and what was found.
@@ -366,16 +474,17 @@ fn error_offset(err: &pest::error::Error<Rule>) -> usize {
 const PUNCTUATION: [&str; 10] = ["=", ",", "(", ")", "[", "]", "|", "<", ">", "0"];
 
 /// Descriptions in the order they are listed in messages.
-const DESCRIPTIONS: [&str; 10] = [
+const DESCRIPTIONS: [&str; 11] = [
     "a statement",
     "a name",
     "an expression",
     "`> 0`",
-    "a space kind (oscillator, spin or levels)",
+    "a space kind (oscillator, ladder, spin, rotor, levels or fermions)",
     "a state label",
     "a matrix row `[...]`",
     "an operator",
     "end of line",
+    "an index set like `1..N` or `[up, dn]`",
     "something else",
 ];
 
@@ -391,6 +500,8 @@ fn describe(rule: Rule) -> &'static str {
         | Rule::let_decl
         | Rule::focus_decl
         | Rule::order_decl
+        | Rule::kw_sector
+        | Rule::sector_decl
         | Rule::term_def
         // Pest names the whole file when no statement could start at the beginning.
         | Rule::file => DESCRIPTIONS[0],
@@ -405,14 +516,23 @@ fn describe(rule: Rule) -> &'static str {
         | Rule::call
         | Rule::member
         | Rule::matrix_call
-        | Rule::ket_bra => DESCRIPTIONS[2],
+        | Rule::sum_call
+        | Rule::index
+        | Rule::ket_bra
+        | Rule::sector_item => DESCRIPTIONS[2],
         Rule::positive => DESCRIPTIONS[3],
-        Rule::oscillator | Rule::spin | Rule::levels => DESCRIPTIONS[4],
-        Rule::label | Rule::signed => DESCRIPTIONS[5],
+        Rule::oscillator
+        | Rule::spin
+        | Rule::levels
+        | Rule::ladder
+        | Rule::rotor
+        | Rule::fermions => DESCRIPTIONS[4],
+        Rule::label | Rule::signed | Rule::state_ket | Rule::field => DESCRIPTIONS[5],
         Rule::matrix_rows | Rule::matrix_row => DESCRIPTIONS[6],
         Rule::add_op | Rule::mul_op | Rule::pow_op => DESCRIPTIONS[7],
         Rule::line_end | Rule::EOI => DESCRIPTIONS[8],
-        _ => DESCRIPTIONS[9],
+        Rule::range | Rule::name_set | Rule::family | Rule::binder => DESCRIPTIONS[9],
+        _ => DESCRIPTIONS[10],
     }
 }
 
