@@ -1185,6 +1185,7 @@ mod tests {
 
     #[test]
     fn kets_show_each_factor_label() {
+        use crate::model::space::{Ladder, Levels, Spin};
         use crate::model::Space;
         let spaces = vec![
             Space::new("q", Ladder::oscillator(3)),

@@ -168,7 +168,7 @@ mod tests {
     fn orthogonality() {
         // Σ_{m1,m2} <j1 m1 j2 m2|J M><j1 m1 j2 m2|J' M'> = δ_JJ' δ_MM' (Condon & Shortley (1935);
         // any angular-momentum text).
-        for (a, b) in [(1, 1), (2, 1), (2, 2), (3, 2), (4, 3)] {
+        for (a, b) in [(1i64, 1i64), (2, 1), (2, 2), (3, 2), (4, 3)] {
             let totals: Vec<i64> = ((a - b).abs()..=a + b).step_by(2).collect();
             for &j in &totals {
                 for &jp in &totals {

@@ -280,7 +280,8 @@ impl Scope {
     ) -> Result<Value, Diagnostic> {
         for binder in binders {
             let name = &binder.name.name;
-            if self.names.contains_key(name) || self.local(name).is_some() || name == "i" {
+            // `i` may name an index: inside the sum it hides the imaginary unit, as on paper.
+            if self.names.contains_key(name) || self.local(name).is_some() {
                 return Err(LowerError::IndexHidesName { name: name.clone() }).at(binder.name.span);
             }
         }

@@ -4,14 +4,18 @@
 
 /// The text with each continuing newline (and any comment ending at it) blanked to spaces.
 pub(super) fn join_continued_lines(text: &str) -> String {
+    // A statement cut short at the end of the file is reported where it stops, not joined to
+    // nothing: only newlines before the last written character continue.
+    let last_content = last_content(text);
     let mut out = text.as_bytes().to_vec();
     let mut depth: i64 = 0;
     let mut comment_start: Option<usize> = None;
     let mut last: Option<u8> = None;
     for (offset, &byte) in text.as_bytes().iter().enumerate() {
         if byte == b'\n' {
-            let continues = depth > 0
-                || matches!(last, Some(b'+' | b'-' | b'*' | b'/' | b'^' | b'%' | b',' | b'='));
+            let continues = offset < last_content
+                && (depth > 0
+                    || matches!(last, Some(b'+' | b'-' | b'*' | b'/' | b'^' | b'%' | b',' | b'=')));
             if continues {
                 let from = comment_start.unwrap_or(offset);
                 for slot in &mut out[from..offset] {
@@ -49,6 +53,22 @@ pub(super) fn join_continued_lines(text: &str) -> String {
     String::from_utf8(out).expect("blanked whole characters only")
 }
 
+/// The offset of the last character that is neither white space nor in a comment (0 if none).
+fn last_content(text: &str) -> usize {
+    let mut in_comment = false;
+    let mut res = 0;
+    for (offset, byte) in text.bytes().enumerate() {
+        match byte {
+            b'\n' => in_comment = false,
+            _ if in_comment => {}
+            b'#' => in_comment = true,
+            _ if !byte.is_ascii_whitespace() => res = offset,
+            _ => {}
+        }
+    }
+    res
+}
+
 #[cfg(test)]
 mod tests {
     use super::join_continued_lines;
@@ -65,5 +85,7 @@ mod tests {
     fn a_finished_line_ends_the_statement() {
         let text = "H0 = a\n+ b\n";
         assert_eq!(join_continued_lines(text), text);
+        let text = "V = 3 +\n# the end\n";
+        assert_eq!(join_continued_lines(text), text, "nothing follows to continue with");
     }
 }

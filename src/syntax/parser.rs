@@ -422,7 +422,8 @@ fn friendly(text: &str, err: pest::error::Error<Rule>) -> Diagnostic {
         }
     }
     if offset == error_offset(&err) {
-        for rule in positives {
+        // An optional family index `[1..N]` is never what a user left out.
+        for rule in positives.into_iter().filter(|r| *r != Rule::family) {
             push(describe(rule).to_string(), &mut expected);
         }
     }

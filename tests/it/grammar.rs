@@ -48,25 +48,71 @@ fn statement(statement: &ast::Statement) -> String {
                     let labels: Vec<&str> = labels.iter().map(|l| l.name.as_str()).collect();
                     format!("(levels {})", labels.join(" "))
                 }
+                ast::SpaceKind::Ladder { n_states, .. } => format!("(ladder {})", expr(n_states)),
+                ast::SpaceKind::Rotor { j_max, .. } => format!("(rotor {})", expr(j_max)),
+                ast::SpaceKind::Fermions { index_sets, .. } => {
+                    let sets: Vec<String> = index_sets.iter().map(index_set).collect();
+                    format!("(fermions {})", sets.join(" "))
+                }
             };
-            format!("(space {} {kind})", decl.name.name)
+            match &decl.family {
+                Some(sets) => {
+                    let sets: Vec<String> = sets.iter().map(index_set).collect();
+                    format!("(space {}[{}] {kind})", decl.name.name, sets.join(" "))
+                }
+                None => format!("(space {} {kind})", decl.name.name),
+            }
         }
         ast::Statement::Let(decl) => format!("(let {} {})", decl.name.name, expr(&decl.value)),
         ast::Statement::Term(def) => format!("(= {} {})", def.name.name, expr(&def.value)),
         ast::Statement::Focus(decl) => {
-            let energies: Vec<String> = decl.energies.iter().map(expr).collect();
-            format!("(focus {})", energies.join(" "))
+            let items: Vec<String> = decl
+                .items
+                .iter()
+                .map(|item| match item {
+                    ast::FocusItem::Energy(e) => expr(e),
+                    ast::FocusItem::State(ket) => {
+                        let fields: Vec<&str> = ket.fields.iter().map(|(f, _)| f.as_str()).collect();
+                        format!("|{}>", fields.join(","))
+                    }
+                })
+                .collect();
+            format!("(focus {})", items.join(" "))
         }
         ast::Statement::Order(decl) => format!("(order {})", expr(&decl.order)),
+        ast::Statement::Sector(decl) => {
+            let items: Vec<String> = decl
+                .items
+                .iter()
+                .map(|item| format!("(= {} {})", expr(&item.operator), expr(&item.value)))
+                .collect();
+            format!("(sector {})", items.join(" "))
+        }
     }
+}
+
+fn index_set(set: &ast::IndexSetExpr) -> String {
+    match set {
+        ast::IndexSetExpr::Range { first, last, .. } => format!("{}..{}", expr(first), expr(last)),
+        ast::IndexSetExpr::Names { names, .. } => {
+            let names: Vec<&str> = names.iter().map(|n| n.name.as_str()).collect();
+            format!("[{}]", names.join(" "))
+        }
+    }
+}
+
+fn index(values: &[ast::Expr]) -> String {
+    let values: Vec<String> = values.iter().map(expr).collect();
+    format!("[{}]", values.join(" "))
 }
 
 fn label(label: &ast::Label) -> String {
     let local = match &label.local {
         ast::LocalLabel::Name(text) | ast::LocalLabel::Number(text) => text.as_str(),
     };
+    let qualifier = label.space_index.as_deref().map(index).unwrap_or_default();
     match &label.space {
-        Some(space) => format!("{}.{local}", space.name),
+        Some(space) => format!("{}{qualifier}.{local}", space.name),
         None => local.to_string(),
     }
 }
@@ -74,7 +120,17 @@ fn label(label: &ast::Label) -> String {
 fn expr(e: &ast::Expr) -> String {
     match &e.kind {
         ast::ExprKind::Number(text) | ast::ExprKind::Name(text) => text.clone(),
-        ast::ExprKind::Member { space, member } => format!("{}.{}", space.name, member.name),
+        ast::ExprKind::Member { space, index: idx, member } => {
+            let idx = idx.as_deref().map(index).unwrap_or_default();
+            format!("{}{idx}.{}", space.name, member.name)
+        }
+        ast::ExprKind::Sum { binders, body } => {
+            let binders: Vec<String> = binders
+                .iter()
+                .map(|b| format!("{} {}", b.name.name, index_set(&b.set)))
+                .collect();
+            format!("(sum {} {})", binders.join(" "), expr(body))
+        }
         ast::ExprKind::KetBra { ket, bra } => format!("|{}><{}|", label(ket), label(bra)),
         ast::ExprKind::Call { function, args } => {
             let args: Vec<String> = args.iter().map(expr).collect();

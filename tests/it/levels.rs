@@ -7,7 +7,8 @@
 
 use cleave::exact::{Field, ParamId, Radical, RatFunc, Rational, Symbols};
 use cleave::linalg::SparseVec;
-use cleave::model::{Basis, Model, Operator, Space, SpaceKind, SpinOp};
+use cleave::model::space::Spin;
+use cleave::model::{Basis, LabelField, Model, Operator, Space, SpinOp};
 use cleave::spectrum::unperturbed_levels;
 use proptest::prelude::*;
 
@@ -72,7 +73,7 @@ fn rank(vectors: &[SparseVec<RatFunc>], n: usize) -> usize {
 ///   memory.
 /// - `J^2 |j, m> = j(j+1) |j, m>`: same book, eq. (3.5.34), number from memory.
 ///
-/// The state order `m = j, j-1, ..., -j` is cleave's documented convention (`SpaceKind::Spin`),
+/// The state order `m = j, j-1, ..., -j` is cleave's documented convention (`space::Spin`),
 /// not an external fact.
 fn check_angular_momentum(twice_j: u32) {
     let n = twice_j as usize + 1;
@@ -82,11 +83,11 @@ fn check_angular_momentum(twice_j: u32) {
         (op(SpinOp::Up), op(SpinOp::Down), op(SpinOp::X), op(SpinOp::Y), op(SpinOp::Z));
 
     // States are ordered m = j, ..., -j, and labelled so.
-    let space = Space { name: "s".to_string(), kind: SpaceKind::Spin { twice_j } };
+    let space = Space::new("s", Spin { twice_j });
     let basis = Basis::new(vec![space.clone()]).expect("small basis");
     for idx in 0..n {
         let m = j.clone() - Rational::from_i64(idx as i64);
-        assert_eq!(space.spin_m(idx), Some(m.clone()), "m of state {idx}");
+        assert_eq!(space.kind().label(idx), [LabelField::Signed(m.clone())], "m of state {idx}");
         assert_eq!(z.get(idx, idx), constant(&m), "Jz on state {idx}");
     }
     let top =
@@ -151,7 +152,7 @@ fn spin_one() {
 fn spin_three_halves() {
     check_angular_momentum(3);
     let labels: Vec<String> = {
-        let space = Space { name: "s".to_string(), kind: SpaceKind::Spin { twice_j: 3 } };
+        let space = Space::new("s", Spin { twice_j: 3 });
         let basis = Basis::new(vec![space]).expect("small basis");
         (0..4).map(|k| basis.ket_label(k)).collect()
     };

@@ -28,6 +28,6 @@ impl Kind for Levels {
         None
     }
     fn operator_names(&self) -> &'static str {
-        "no named operators; write ket-bras like `|A><B|`"
+        "ket-bras of its states, like `|A><B|`"
     }
 }
