@@ -101,9 +101,9 @@ impl Scope {
         };
         if let Value::Operator(operator) = &value {
             if operator.cost() > MAX_OPERATOR_COST {
-                return Err(LowerError::OperatorTooComplex)
-                    .at(expr.span)
-                    .map_err(|d| d.with_hint("build large powers from smaller pieces, or use a sector"));
+                return Err(LowerError::OperatorTooComplex).at(expr.span).map_err(|d| {
+                    d.with_hint("build large powers from smaller pieces, or use a sector")
+                });
             }
         }
         Ok(value)
@@ -208,9 +208,8 @@ impl Scope {
         ident: &ast::Ident,
         index: Option<&'a [ast::Expr]>,
     ) -> Result<(usize, Option<&'a [ast::Expr]>), Diagnostic> {
-        let index_span = |index: &[ast::Expr]| {
-            index.iter().fold(ident.span, |acc, e| acc.to(e.span))
-        };
+        let index_span =
+            |index: &[ast::Expr]| index.iter().fold(ident.span, |acc, e| acc.to(e.span));
         match (self.names.get(&ident.name), index) {
             (Some(Binding::Space(idx)), index) => Ok((*idx, index)),
             (Some(Binding::Family { sets, members }), Some(index)) => {
@@ -244,7 +243,9 @@ impl Scope {
             (Some(_), None) => {
                 return Err(LowerError::IndexNeeded { name: space.name.clone() })
                     .at(space.span)
-                    .map_err(|d| d.with_hint(format!("name a mode: {}", kind.operator_names())))
+                    .map_err(|d| {
+                        d.with_hint(format!("its operators are {}", kind.operator_names()))
+                    })
             }
             (None, Some(_)) => {
                 return Err(LowerError::NotIndexed { name: factor.name.clone() }).at(space.span)
@@ -254,11 +255,14 @@ impl Scope {
         match local {
             Some(local) => Ok(Value::Operator(OperatorExpr::from_local(space_idx, local))),
             None => {
-                if matches!(member.name.as_str(), "create" | "annihilate") && kind.fermions().is_none()
+                if matches!(member.name.as_str(), "create" | "annihilate")
+                    && kind.fermions().is_none()
                 {
                     return Err(LowerError::NotFermionic { name: factor.name.clone() })
                         .at(member.span)
-                        .map_err(|d| d.with_hint(format!("its operators are {}", kind.operator_names())));
+                        .map_err(|d| {
+                            d.with_hint(format!("its operators are {}", kind.operator_names()))
+                        });
                 }
                 Err(LowerError::UnknownMember {
                     space: factor.name.clone(),
@@ -417,8 +421,7 @@ impl Scope {
                         .filter(Rational::is_integer)
                         .and_then(|r| r.to_i64())
                         .ok_or_else(|| LowerError::Coupling {
-                            why: "angular momenta and projections must be multiples of 1/2"
-                                .into(),
+                            why: "angular momenta and projections must be multiples of 1/2".into(),
                         })
                         .at(arg.span)?;
                 }
@@ -441,7 +444,11 @@ impl Scope {
         }
     }
 
-    fn ket_bra_space(&self, ident: &ast::Ident, index: Option<&[ast::Expr]>) -> Result<usize, Diagnostic> {
+    fn ket_bra_space(
+        &self,
+        ident: &ast::Ident,
+        index: Option<&[ast::Expr]>,
+    ) -> Result<usize, Diagnostic> {
         let (idx, rest) = self.resolve_space(ident, index)?;
         if rest.is_some() {
             return Err(LowerError::NotIndexed { name: self.spaces[idx].name.clone() })
@@ -449,9 +456,9 @@ impl Scope {
         }
         let space = &self.spaces[idx];
         if !space.kind().has_ket_bras() || space.kind().n_fields() != 1 {
-            return Err(LowerError::NoKetBras { name: space.name.clone() })
-                .at(ident.span)
-                .map_err(|d| d.with_hint(format!("its operators are {}", space.kind().operator_names())));
+            return Err(LowerError::NoKetBras { name: space.name.clone() }).at(ident.span).map_err(
+                |d| d.with_hint(format!("its operators are {}", space.kind().operator_names())),
+            );
         }
         Ok(idx)
     }
@@ -516,9 +523,7 @@ impl Scope {
         }
         Ok(match (op, left, right) {
             (ast::BinaryOp::Add, a, b) => add_values(a, b).at(lhs.span.to(rhs.span))?,
-            (ast::BinaryOp::Sub, a, b) => {
-                add_values(a, negate(b)).at(lhs.span.to(rhs.span))?
-            }
+            (ast::BinaryOp::Sub, a, b) => add_values(a, negate(b)).at(lhs.span.to(rhs.span))?,
             (ast::BinaryOp::Mul, Value::Scalar(a), Value::Scalar(b)) => Value::Scalar(a * b),
             (ast::BinaryOp::Mul, Value::Operator(a), Value::Operator(b)) => {
                 Value::Operator(a.mul(&b))
@@ -615,8 +620,7 @@ impl Scope {
                 let idx = self.ket_bra_space(ident, label.space_index.as_deref())?;
                 for label in [ket, bra] {
                     if let Some(other) = &label.space {
-                        let other_idx =
-                            self.ket_bra_space(other, label.space_index.as_deref())?;
+                        let other_idx = self.ket_bra_space(other, label.space_index.as_deref())?;
                         if other_idx != idx {
                             return Err(LowerError::LabelsOnDifferentSpaces).at(label.span);
                         }

@@ -92,8 +92,10 @@ pub fn lower(file: &ast::File) -> Result<(Model, SourceMap), Diagnostic> {
                         d.with_hint(format!("write `let {} = ...` to name a value", def.name.name))
                     })?;
                 let value = scope.eval(&def.value)?;
-                let operator =
-                    scope.to_operator(value.clone()).ok_or(LowerError::BadIndex).at(def.value.span)?;
+                let operator = scope
+                    .to_operator(value.clone())
+                    .ok_or(LowerError::BadIndex)
+                    .at(def.value.span)?;
                 if terms.contains_key(&term) {
                     // `V` and `V1` are the same term.
                     return Err(LowerError::DeclaredTwice { name: def.name.name.clone() })
@@ -254,8 +256,11 @@ fn sector_basis(spaces: &[Space], sectors: &[SectorCondition]) -> Result<Basis, 
         for &key in &kept {
             let value = condition.operator.diagonal_value(&layout, key).map_err(|off| {
                 Diagnostic::new(
-                    LowerError::SectorNotDiagonal { from: layout.ket(off.from), to: layout.ket(off.to) }
-                        .to_string(),
+                    LowerError::SectorNotDiagonal {
+                        from: layout.ket(off.from),
+                        to: layout.ket(off.to),
+                    }
+                    .to_string(),
                     condition.operator_span,
                 )
             })?;
@@ -537,8 +542,9 @@ fn lower_spaces(
                 Box::new(move |name| Space::new(name, Ladder::physical(n)))
             }
             ast::SpaceKind::Rotor { j_max, .. } => {
-                let j = whole(j_max, LowerError::BadRotor)
-                    .map_err(|d| d.with_hint("write the highest J as a whole number: `rotor(4)`"))?;
+                let j = whole(j_max, LowerError::BadRotor).map_err(|d| {
+                    d.with_hint("write the highest J as a whole number: `rotor(4)`")
+                })?;
                 if j > 150 {
                     return Err(LowerError::TooManyStates).at(j_max.span);
                 }

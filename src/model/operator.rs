@@ -222,11 +222,10 @@ impl OperatorExpr {
         let mut factors: Vec<OperatorExpr> = Vec::with_capacity(left.len() + right.len());
         for factor in left.into_iter().chain(right) {
             let merged = match (factors.last().map(|f| &*f.node), &*factor.node) {
-                (Some(Node::Local { space: a, matrix: x, .. }), Node::Local { space: b, matrix: y, .. })
-                    if a == b =>
-                {
-                    Some(OperatorExpr::local(*a, x.mul(y)))
-                }
+                (
+                    Some(Node::Local { space: a, matrix: x, .. }),
+                    Node::Local { space: b, matrix: y, .. },
+                ) if a == b => Some(OperatorExpr::local(*a, x.mul(y))),
                 _ => None,
             };
             match merged {
@@ -270,9 +269,9 @@ impl OperatorExpr {
             Node::Sum(terms) => OperatorExpr::new(Node::Sum(
                 terms.iter().map(|(c, t)| (c.conj(), t.adjoint())).collect(),
             )),
-            Node::Product(factors) => {
-                OperatorExpr::new(Node::Product(factors.iter().rev().map(|f| f.adjoint()).collect()))
-            }
+            Node::Product(factors) => OperatorExpr::new(Node::Product(
+                factors.iter().rev().map(|f| f.adjoint()).collect(),
+            )),
         }
     }
 

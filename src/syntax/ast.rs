@@ -146,9 +146,9 @@ pub enum IndexSetExpr {
     /// `1..N`: the integers from the first to the last, both included.
     Range {
         /// The first value.
-        first: Expr,
+        first: Box<Expr>,
         /// The last value.
-        last: Expr,
+        last: Box<Expr>,
         /// `1..N`.
         span: Span,
     },

@@ -122,7 +122,7 @@ fn parse_index_set(pair: Pair<'_, Rule>) -> ast::IndexSetExpr {
             let mut inner = pair.into_inner();
             let first = parse_expr(inner.next().expect("grammar: range start"));
             let last = parse_expr(inner.next().expect("grammar: range end"));
-            ast::IndexSetExpr::Range { first, last, span }
+            ast::IndexSetExpr::Range { first: Box::new(first), last: Box::new(last), span }
         }
         Rule::name_set => {
             ast::IndexSetExpr::Names { names: pair.into_inner().map(parse_ident).collect(), span }

@@ -637,12 +637,17 @@ fn every_example_is_snapshotted() {
     let covered = [
         "axial_spin",
         "dot_trimer",
+        "holstein_dimer",
         "hubbard_dimer",
+        "hubbard_ring4",
+        "hubbard_triangle",
         "lambda_three_level",
         "quartic_oscillator",
         "qubit_resonator",
+        "rotor_stark",
         "spin_one_axial",
         "spin_orbit_field",
+        "two_transmons",
     ];
     let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/examples");
     let mut found: Vec<String> = std::fs::read_dir(dir)
@@ -825,4 +830,156 @@ V = x^4
         .filter(|b| b.state_missing == Some(cleave::engine::MissingState::RadicandTooLarge))
         .count();
     assert!(left_out > 0);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Models written with fermions, sums, sectors, rotors and ladders (issue 7).
+
+/// The half-filled Hubbard dimer written with fermion modes and a sector: its singlet follows
+/// the closed form `(U - sqrt(U^2 + 16 t^2))/2` of the 2x2 singlet block (the same block as the
+/// hand-built dimer above), its `S_z = 0` triplet state stays at 0; second order is Anderson's
+/// superexchange `-J = -4t^2/U` (Anderson, Phys. Rev. 115, 2 (1959)).
+#[test]
+fn fermion_hubbard_dimer_superexchange() {
+    let order = 6;
+    let (model, derivation) = check_derive(
+        r#"param t, U > 0
+space c = fermions(1..2, [up, dn])
+H0 = U * sum(i in 1..2: c[i, up].n * c[i, dn].n)
+V = -t * sum(s in [up, dn]: c[1, s].create * c[2, s].annihilate + c[2, s].create * c[1, s].annihilate)
+sector sum(i in 1..2, s in [up, dn]: c[i, s].n) = 2, sum(i in 1..2: c[i, up].n - c[i, dn].n) = 0
+focus 0
+"#,
+        order,
+    );
+    assert_eq!(model.basis().dimension(), 4, "two singly and two doubly occupied states");
+    let low = space_at(&derivation, &["0"]);
+    let trace = values(&derivation, &["U"]);
+    let radicand = values(&derivation, &["U^2", "0", "16*t^2"]);
+    let ground = half_trace_plus_root(&trace, &radicand, value(&derivation, "-U"), order as usize);
+    assert_eq!(ground[2], value(&derivation, "-4*t^2/U"));
+    let zeros = vec![RatFunc::zero(); order as usize + 1];
+    assert_branches(&derivation, low, &[(ground, 1, Some(2)), (zeros, 1, Some(2))]);
+}
+
+/// Three sites on a ring, three electrons, `S_z = 1/2`: at second order the Heisenberg triangle
+/// `J Σ (S_i.S_j - 1/4)`, `J = 4t^2/U` (Anderson 1959), whose `S = 1/2` pair lies at
+/// `-3J/2 = -6t^2/U` and whose `S = 3/2` state stays exactly at 0 to every order (its
+/// `S_z = 3/2` partner `|up, up, up>` cannot hop, and the model conserves total spin).
+#[test]
+fn fermion_hubbard_triangle_superexchange() {
+    let (_, derivation) = check_derive(include_str!("../../examples/hubbard_triangle.clv"), 6);
+    let low = space_at(&derivation, &["0"]);
+    let pair = derivation.model_spaces[0]
+        .branches
+        .iter()
+        .find(|b| b.multiplicity == 2)
+        .expect("the S = 1/2 pair");
+    assert_eq!(pair.energy[2], value(&derivation, "-6*t^2/U"));
+    let zeros = vec![RatFunc::zero(); 7];
+    let quartet = branch_with(&derivation, low, &zeros);
+    assert_eq!(quartet.multiplicity, 1);
+    assert_eq!(low.branches.len(), 2);
+}
+
+/// A linear rotor in a field, second order against the textbook formula
+/// `E2 = d^2 F^2/(2B) [J(J+1) - 3M^2] / [J(J+1)(2J-1)(2J+3)]`, and `-d^2 F^2/(6B)` for
+/// `J = 0` (Townes & Schawlow, Microwave Spectroscopy (1955), ch. 10; from memory). The rotor
+/// keeps `J <= 6`, enough for second order of `J <= 4`.
+#[test]
+fn rotor_stark_second_order() {
+    let (_, derivation) = check_derive(
+        "param B > 0, mu, F\nspace r = rotor(6)\nH0 = B * r.j2\nV = -mu * F * r.cos\n",
+        2,
+    );
+    for j in 0..=4i64 {
+        let energy = format!("{}*B", j * (j + 1));
+        let space = space_at(&derivation, &[&energy]);
+        for m in 0..=j {
+            let expected = if j == 0 {
+                value(&derivation, "-mu^2*F^2/(6*B)")
+            } else {
+                let numer = j * (j + 1) - 3 * m * m;
+                let denom = 2 * j * (j + 1) * (2 * j - 1) * (2 * j + 3);
+                value(&derivation, &format!("({numer})*mu^2*F^2/({denom}*B)"))
+            };
+            let branch = space
+                .branches
+                .iter()
+                .find(|b| b.energy[2] == expected)
+                .unwrap_or_else(|| panic!("no branch for J = {j}, M = ±{m}"));
+            assert_eq!(branch.multiplicity, if m == 0 { 1 } else { 2 }, "J = {j}, M = ±{m}");
+        }
+        assert!(space.notes.is_empty(), "rotor(6) is enough at second order for J = {j}");
+    }
+}
+
+/// The same rotor cut at `J = 4` and taken to sixth order warns, and names a cut that makes the
+/// coefficients exact; a larger cut then gives the same J = 0 series with no warning.
+#[test]
+fn rotor_cut_is_noted_with_a_sufficient_j() {
+    let (_, derivation) = check_derive(include_str!("../../examples/rotor_stark.clv"), 6);
+    let ground = &derivation.model_spaces[0];
+    let Some(cleave::engine::Note::Truncation { sufficient, first_affected, .. }) =
+        ground.notes.first()
+    else {
+        panic!("the J = 0 level at order 6 reaches J = 4")
+    };
+    assert_eq!(*first_affected, 5);
+    let text = include_str!("../../examples/rotor_stark.clv").replace("rotor(4)", sufficient);
+    let (_, exact) = check_derive(&text, 6);
+    assert!(exact.model_spaces[0].notes.is_empty(), "{sufficient} is enough");
+    // Second order is Townes & Schawlow's -d^2 F^2/(6B) whatever the cut; a rotor cut at J = 2
+    // changes the sixth order of J = 0 (its wave operator needs J = 3), and is warned about.
+    let e = &exact.model_spaces[0].branches[0].energy;
+    assert_eq!(e[2], value(&exact, "-mu^2*F^2/(6*B)"));
+    let text = include_str!("../../examples/rotor_stark.clv").replace("rotor(4)", "rotor(2)");
+    let (_, short) = check_derive(&text, 6);
+    let cut = &short.model_spaces[0];
+    assert_ne!(cut.branches[0].energy[6], e[6], "the cut at J = 2 changes sixth order");
+    assert_eq!(cut.branches[0].energy[2], e[2]);
+    assert!(!cut.notes.is_empty(), "and says so");
+}
+
+/// Two transmons as ladders: no truncation caution (the three levels are the model), the same
+/// model with `oscillator(3)` gets one; focus by state picks the levels of |00>, |10>, |01>,
+/// |11>. Second order of |10> is `J^2/(ω1 - ω2)` with `ω1 - ω2 = -3/4` (second-order
+/// perturbation theory of the two-state exchange block; common practice).
+#[test]
+fn transmon_ladders_and_focus_by_state() {
+    let text = include_str!("../../examples/two_transmons.clv");
+    let (_, derivation) = check_derive(text, 4);
+    let energies: Vec<RatFunc> =
+        derivation.model_spaces.iter().map(|s| s.unperturbed[0].clone()).collect();
+    assert_eq!(energies, values(&derivation, &["0", "5", "23/4", "43/4"]));
+    assert!(derivation.model_spaces.iter().all(|s| s.notes.is_empty()));
+    assert_eq!(derivation.model_spaces[1].branches[0].energy[2], value(&derivation, "-4/3*J^2"));
+    let cut = text.replace("ladder(3)", "oscillator(3)");
+    let (_, truncated) = check_derive(&cut, 4);
+    assert!(truncated.model_spaces.iter().any(|s| !s.notes.is_empty()));
+}
+
+#[test]
+fn example_hubbard_triangle() {
+    check_example("hubbard_triangle", include_str!("../../examples/hubbard_triangle.clv"));
+}
+
+#[test]
+fn example_hubbard_ring4() {
+    check_example("hubbard_ring4", include_str!("../../examples/hubbard_ring4.clv"));
+}
+
+#[test]
+fn example_rotor_stark() {
+    check_example("rotor_stark", include_str!("../../examples/rotor_stark.clv"));
+}
+
+#[test]
+fn example_two_transmons() {
+    check_example("two_transmons", include_str!("../../examples/two_transmons.clv"));
+}
+
+#[test]
+fn example_holstein_dimer() {
+    check_example("holstein_dimer", include_str!("../../examples/holstein_dimer.clv"));
 }

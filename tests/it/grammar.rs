@@ -72,7 +72,8 @@ fn statement(statement: &ast::Statement) -> String {
                 .map(|item| match item {
                     ast::FocusItem::Energy(e) => expr(e),
                     ast::FocusItem::State(ket) => {
-                        let fields: Vec<&str> = ket.fields.iter().map(|(f, _)| f.as_str()).collect();
+                        let fields: Vec<&str> =
+                            ket.fields.iter().map(|(f, _)| f.as_str()).collect();
                         format!("|{}>", fields.join(","))
                     }
                 })
@@ -125,10 +126,8 @@ fn expr(e: &ast::Expr) -> String {
             format!("{}{idx}.{}", space.name, member.name)
         }
         ast::ExprKind::Sum { binders, body } => {
-            let binders: Vec<String> = binders
-                .iter()
-                .map(|b| format!("{} {}", b.name.name, index_set(&b.set)))
-                .collect();
+            let binders: Vec<String> =
+                binders.iter().map(|b| format!("{} {}", b.name.name, index_set(&b.set))).collect();
             format!("(sum {} {})", binders.join(" "), expr(body))
         }
         ast::ExprKind::KetBra { ket, bra } => format!("|{}><{}|", label(ket), label(bra)),

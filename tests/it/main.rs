@@ -8,6 +8,7 @@ mod derive;
 mod emit;
 mod fuzz;
 mod grammar;
+mod language;
 mod levels;
 mod lower;
 mod properties;

@@ -11,8 +11,8 @@ mod spin;
 use std::fmt;
 use std::sync::Arc;
 
-pub use fermions::{Fermions, IndexSet, IndexValue, ModeAction, MAX_MODES};
 pub(crate) use fermions::mode_operator;
+pub use fermions::{Fermions, IndexSet, IndexValue, ModeAction, MAX_MODES};
 pub use ladder::Ladder;
 pub use levels::Levels;
 pub use rotor::Rotor;

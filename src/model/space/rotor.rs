@@ -32,7 +32,9 @@ impl Rotor {
         })
     }
     fn diagonal(&self, f: impl Fn(usize, i64) -> Rational) -> Operator {
-        Operator::diagonal(self.states().map(|(_, j, m)| RatFunc::from_rational(&f(j, m))).collect())
+        Operator::diagonal(
+            self.states().map(|(_, j, m)| RatFunc::from_rational(&f(j, m))).collect(),
+        )
     }
     /// `J+` within each `J` block: `<J, M+1|J+|J, M> = sqrt(J(J+1) - M(M+1))`.
     fn raising(&self) -> Operator {
@@ -64,7 +66,9 @@ impl Rotor {
                 let angular = wigner_3j([tjp, 2, tj], [-2 * mp, 2 * q, 2 * m]).expect("valid");
                 let value = reduced
                     * angular
-                    * Radical::sqrt_of(&Rational::from_i64((2 * jp as i64 + 1) * (2 * j as i64 + 1)));
+                    * Radical::sqrt_of(&Rational::from_i64(
+                        (2 * jp as i64 + 1) * (2 * j as i64 + 1),
+                    ));
                 if value.is_zero() {
                     continue;
                 }
@@ -155,11 +159,9 @@ mod tests {
                 let entry = cos.get(row, col);
                 if jp == j + 1 && mp == m {
                     let (j, m) = (j as i64, m);
-                    let square = Rational::ratio(
-                        (j + 1) * (j + 1) - m * m,
-                        (2 * j + 1) * (2 * j + 3),
-                    )
-                    .expect("non-zero");
+                    let square =
+                        Rational::ratio((j + 1) * (j + 1) - m * m, (2 * j + 1) * (2 * j + 3))
+                            .expect("non-zero");
                     assert_eq!(entry, RatFunc::constant(Radical::sqrt_of(&square)), "J={j} M={m}");
                 } else if !(j == jp + 1 && mp == m) {
                     assert!(entry.is_zero(), "<{jp},{mp}|cos|{j},{m}>");
