@@ -159,11 +159,23 @@ impl Loaded {
     fn located(&self, diagnostic: &Diagnostic) -> Failure {
         Failure::bad_input(diagnostic.render(&self.text, &self.name))
     }
-    /// Maps an engine error: infeasible is exit 1, bad input is exit 2 located at the line the
-    /// engine most likely means (see [`SourceMap::engine_input`]).
-    fn engine_failure(&self, err: EngineError) -> Failure {
+    /// Maps an engine error: infeasible is exit 1, bad input is exit 2 located at its cause: the
+    /// focus line it names, the `order` statement or the `--order` flag (`order_flag`), else the
+    /// line the engine most likely means (see [`SourceMap::engine_input`]).
+    fn engine_failure(&self, err: EngineError, order_flag: bool) -> Failure {
         match err {
             EngineError::Infeasible(why) => Failure::infeasible(format!("{}: {why}", self.name)),
+            EngineError::BadFocus { line, message } => {
+                let span = self.source_map.focus.get(line).copied();
+                self.located(&Diagnostic::new(
+                    message,
+                    span.unwrap_or_else(|| self.source_map.engine_input()),
+                ))
+            }
+            EngineError::BadOrder(why) => match (order_flag, self.source_map.order) {
+                (false, Some(span)) => self.located(&Diagnostic::new(why, span)),
+                _ => Failure::bad_input(format!("error: --order: {why}")),
+            },
             EngineError::BadInput(why) => {
                 self.located(&Diagnostic::new(why, self.source_map.engine_input()))
             }
@@ -206,8 +218,8 @@ fn derive(args: DeriveArgs) -> Result<(), Failure> {
     let loaded = load(&args.model)?;
     let at = parse_at(&args.at, &loaded.model)?;
     let options = DeriveOptions { order: order(args.order, &loaded.model), states: args.states };
-    let derivation =
-        engine::derive(&loaded.model, &options).map_err(|err| loaded.engine_failure(err))?;
+    let derivation = engine::derive(&loaded.model, &options)
+        .map_err(|err| loaded.engine_failure(err, args.order.is_some()))?;
     let model = &loaded.model;
     let mut outputs = Outputs::default();
     if let Some(path) = &args.json {
@@ -232,8 +244,8 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
     let tested = order(args.order, &loaded.model);
     let extra = if tested + 2 <= engine::MAX_ORDER { 2 } else { 0 };
     let options = DeriveOptions::new(tested + extra);
-    let derivation =
-        engine::derive(&loaded.model, &options).map_err(|err| loaded.engine_failure(err))?;
+    let derivation = engine::derive(&loaded.model, &options)
+        .map_err(|err| loaded.engine_failure(err, args.order.is_some()))?;
     let check_options = CheckOptions { at, order: Some(tested) };
     let verification = check::verify(&loaded.model, &derivation, &check_options);
     let mut outputs = Outputs::default();

@@ -220,12 +220,24 @@ pub enum EngineError {
     Infeasible(String),
     /// A problem with the input that the user must fix (a focus energy that is no level, ...).
     BadInput(String),
+    /// The `focus` line with this index (in [`Model::focus`] order) names no H0 level.
+    BadFocus {
+        /// Index of the focus line.
+        line: usize,
+        /// What is wrong.
+        message: String,
+    },
+    /// The order asked for is outside `1..=MAX_ORDER`.
+    BadOrder(String),
 }
 
 impl std::fmt::Display for EngineError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
-            EngineError::Infeasible(why) | EngineError::BadInput(why) => write!(f, "{why}"),
+            EngineError::Infeasible(why)
+            | EngineError::BadInput(why)
+            | EngineError::BadOrder(why)
+            | EngineError::BadFocus { message: why, .. } => write!(f, "{why}"),
         }
     }
 }
@@ -287,10 +299,10 @@ impl Working {
 pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, EngineError> {
     let order = options.order;
     if order == 0 {
-        return Err(EngineError::BadInput("the order must be at least 1".into()));
+        return Err(EngineError::BadOrder("the order must be at least 1".into()));
     }
     if order > MAX_ORDER {
-        return Err(EngineError::BadInput(format!(
+        return Err(EngineError::BadOrder(format!(
             "order {order} is beyond what cleave computes (at most {MAX_ORDER})"
         )));
     }
@@ -399,7 +411,7 @@ fn model_space_levels(model: &Model, spectrum: &Spectrum) -> Result<Vec<Vec<usiz
     let names = model.param_names();
     let symbols = crate::exact::Symbols { names: &names };
     let mut res = Vec::new();
-    for line in model.focus() {
+    for (line_idx, line) in model.focus().iter().enumerate() {
         let mut levels = Vec::new();
         for energy in line {
             match spectrum.levels.iter().position(|l| l.energy == *energy) {
@@ -411,11 +423,14 @@ fn model_space_levels(model: &Model, spectrum: &Spectrum) -> Result<Vec<Vec<usiz
                         .iter()
                         .map(|l| l.energy.display(symbols).to_string())
                         .collect();
-                    return Err(EngineError::BadInput(format!(
-                        "focus energy {} is not an H0 level; the levels are {}",
-                        energy.display(symbols),
-                        known.join(", ")
-                    )));
+                    return Err(EngineError::BadFocus {
+                        line: line_idx,
+                        message: format!(
+                            "focus energy {} is not an H0 level; the levels are {}",
+                            energy.display(symbols),
+                            known.join(", ")
+                        ),
+                    });
                 }
             }
         }

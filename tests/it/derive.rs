@@ -511,7 +511,7 @@ fn check_derive_error(text: &str, order: u32) -> EngineError {
 fn order_zero_is_bad_input() {
     assert_eq!(
         check_derive_error(TWO_LEVELS, 0),
-        EngineError::BadInput("the order must be at least 1".into())
+        EngineError::BadOrder("the order must be at least 1".into())
     );
 }
 
@@ -519,7 +519,7 @@ fn order_zero_is_bad_input() {
 fn absurd_order_is_bad_input() {
     assert_eq!(
         check_derive_error(TWO_LEVELS, 1001),
-        EngineError::BadInput("order 1001 is beyond what cleave computes (at most 1000)".into())
+        EngineError::BadOrder("order 1001 is beyond what cleave computes (at most 1000)".into())
     );
 }
 
@@ -528,7 +528,10 @@ fn focus_on_no_level_lists_the_levels() {
     let text = format!("{TWO_LEVELS}focus 1\n");
     assert_eq!(
         check_derive_error(&text, 2),
-        EngineError::BadInput("focus energy 1 is not an H0 level; the levels are -1/2, 1/2".into())
+        EngineError::BadFocus {
+            line: 0,
+            message: "focus energy 1 is not an H0 level; the levels are -1/2, 1/2".into()
+        }
     );
 }
 
@@ -565,6 +568,38 @@ fn bad_orders_and_focus_exit_with_status_two() {
         assert!(stderr.contains(message), "{args:?}: expected {message:?} in\n{stderr}");
         assert!(!stderr.contains("panicked"), "{stderr}");
     }
+}
+
+/// Issue 9, finding 9: each input error is located at its own source: the focus line that names
+/// no level (not the first focus line), the `--order` flag (not a focus line), the `order`
+/// statement; an undeclared symbol suggests declaring it.
+#[test]
+fn issue_9_errors_on_the_right_line() {
+    let model = "param a > 0
+space d = levels(X, Y)
+H0 = a * |X><X| + 2 * a * |Y><Y|
+V = |X><Y| + |Y><X|
+focus a
+focus 2*a
+focus 7*a
+";
+    let (status, stderr) = run_cleave(model, &["derive", "model.clv"]);
+    assert_eq!(status, 2, "{stderr}");
+    assert!(stderr.contains("model.clv:7:1: focus energy 7*a is not an H0 level"), "{stderr}");
+    let focused = "param g\nspace s = spin(1/2)\nH0 = s.z\nV = g * s.x\nfocus 1/2\n";
+    for flag in ["0", "1000000"] {
+        let (status, stderr) = run_cleave(&focused, &["derive", "model.clv", "--order", flag]);
+        assert_eq!(status, 2, "{stderr}");
+        assert!(stderr.starts_with("error: --order:"), "--order {flag}: {stderr}");
+    }
+    let in_file = format!("{focused}order 1001\n");
+    let (status, stderr) = run_cleave(&in_file, &["derive", "model.clv"]);
+    assert_eq!(status, 2, "{stderr}");
+    assert!(stderr.contains("model.clv:6:7: the order is larger than cleave computes"), "{stderr}");
+    let undeclared = "space s = spin(1/2)\nH0 = s.z\nV = kappa * s.x\n";
+    let (status, stderr) = run_cleave(undeclared, &["derive", "model.clv"]);
+    assert_eq!(status, 2, "{stderr}");
+    assert!(stderr.contains("declare a real symbol with `param kappa`"), "{stderr}");
 }
 
 // ---------------------------------------------------------------------------------------------
