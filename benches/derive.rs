@@ -23,13 +23,14 @@ fn model_text(name: &str) -> String {
 fn derive(c: &mut Criterion) {
     let mut group = c.benchmark_group("derive");
     group.sample_size(10);
-    let cases: [(&str, u32); 6] = [
+    let cases: [(&str, u32); 7] = [
         ("quartic_405", 50),
         ("quartic_405", 100),
         ("rabi", 8),
         ("rabi", 10),
         ("examples/hubbard_dimer", 20),
         ("examples/spin_one_axial", 20),
+        ("hubbard_ring6", 4),
     ];
     for (name, order) in cases {
         let text = model_text(name);

@@ -1,4 +1,5 @@
-//! `cleave levels` on a large diagonal model and on a non-diagonal spin-orbit model.
+//! `cleave levels` on a large diagonal model, a non-diagonal spin-orbit model, and the 4900-state
+//! sector of an eight-site Hubbard ring (building the model is most of that work).
 #![expect(missing_docs, reason = "criterion_group! generates an undocumented function")]
 
 use criterion::{criterion_group, criterion_main, Criterion};
@@ -11,7 +12,7 @@ fn load(path: &str) -> cleave::model::Model {
 fn levels(c: &mut Criterion) {
     let mut group = c.benchmark_group("levels");
     group.sample_size(10);
-    for name in ["diagonal_4000", "spin_orbit_oscillator"] {
+    for name in ["diagonal_4000", "spin_orbit_oscillator", "hubbard_ring8"] {
         let path = format!("{}/benches/models/{name}.clv", env!("CARGO_MANIFEST_DIR"));
         let text = std::fs::read_to_string(&path).expect("bench model exists");
         group.bench_function(name, |b| {

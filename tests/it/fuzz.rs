@@ -58,6 +58,37 @@ const TOKENS: &[&str] = &[
     "s.up",
     "s.down",
     "s.w",
+    "sector",
+    "sum",
+    "in",
+    "..",
+    ":",
+    "%",
+    "1..3",
+    "3..1",
+    "[up, dn]",
+    "c[1, up].create",
+    "c[2, dn].annihilate",
+    "c[i, s].n",
+    "c[4, up].n",
+    "c.n",
+    "f[1].z",
+    "f[i % 2 + 1].x",
+    "r.cos",
+    "r.j2",
+    "t.lower",
+    "t.raise",
+    "fermions",
+    "rotor",
+    "ladder",
+    "cg",
+    "threej",
+    "dagger",
+    "|up, dn>",
+    "|0, 0>",
+    "|1, +1>",
+    "sum(i in 1..2: f[i].z)",
+    "sum(i in 1..2, s in [up, dn]: c[i, s].n)",
     "|L><R|",
     "|0><1|",
     "|+1/2><-1/2|",
@@ -73,8 +104,9 @@ const TOKENS: &[&str] = &[
 ];
 
 /// Lines that make later soup tokens meaningful, so lowering gets past name resolution.
-const PRELUDE: &str =
-    "param g, U > 0\nspace q = oscillator(3)\nspace s = spin(1/2)\nspace d = levels(L, R)\n";
+const PRELUDE: &str = "param g, U > 0\nspace q = oscillator(3)\nspace s = spin(1/2)\n\
+    space d = levels(L, R)\nspace c = fermions(1..2, [up, dn])\nspace f[1..2] = spin(1/2)\n\
+    space r = rotor(1)\nspace t = ladder(2)\n";
 
 fn check_no_panic(text: &str) {
     match cleave::load(text) {
