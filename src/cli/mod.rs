@@ -176,6 +176,17 @@ impl Loaded {
                 (false, Some(span)) => self.located(&Diagnostic::new(why, span)),
                 _ => Failure::bad_input(format!("error: --order: {why}")),
             },
+            EngineError::BadQuantity { quantity, term, message } => {
+                let span = self
+                    .source_map
+                    .quantities
+                    .get(quantity)
+                    .and_then(|(whole, terms)| terms.get(term).copied().or(Some(*whole)));
+                self.located(&Diagnostic::new(
+                    message,
+                    span.unwrap_or_else(|| self.source_map.engine_input()),
+                ))
+            }
             EngineError::BadInput(why) => {
                 self.located(&Diagnostic::new(why, self.source_map.engine_input()))
             }

@@ -5,7 +5,7 @@ use serde::Serialize;
 
 use super::text;
 use crate::engine::Derivation;
-use crate::model::Model;
+use crate::model::{Model, Target};
 use crate::spectrum::Spectrum;
 
 #[derive(Serialize)]
@@ -53,6 +53,30 @@ struct DeriveJson {
     #[serde(skip_serializing_if = "Vec::is_empty")]
     roots: Vec<RootJson>,
     model_spaces: Vec<ModelSpaceJson>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    quantities: Vec<QuantityJson>,
+}
+
+/// A named combination of branch energies.
+#[derive(Serialize)]
+struct QuantityJson {
+    name: String,
+    series: Vec<String>,
+}
+
+/// A model space's effective Hamiltonian as a sum of products of spin or qubit operators.
+#[derive(Serialize)]
+struct OperatorFormJson {
+    target: Vec<String>,
+    /// `spin` (`S^a = σ^a/2`, components `x y z`) or `pauli` (components `X Y Z`).
+    operators: &'static str,
+    terms: Vec<OperatorTermJson>,
+}
+
+#[derive(Serialize)]
+struct OperatorTermJson {
+    factors: Vec<[String; 2]>,
+    coefficient: Vec<String>,
 }
 
 /// An algebraic number that values write as `root(P, k)`.
@@ -69,10 +93,19 @@ struct RootJson {
 struct ModelSpaceJson {
     unperturbed: Vec<String>,
     basis: Vec<String>,
+    /// Present (and false) when the basis states are orthogonal but not normalized, because the
+    /// square roots of their norms are not exact; `basis_norms` then gives the squared norms, and
+    /// the effective Hamiltonian is written in that unnormalized basis.
+    #[serde(skip_serializing_if = "is_true")]
+    normalized: bool,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    basis_norms: Option<Vec<String>>,
     effective_hamiltonian: Vec<Vec<Vec<String>>>,
     branches: Vec<BranchJson>,
     secular_equations: Vec<SecularJson>,
     notes: Vec<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    operator_form: Option<OperatorFormJson>,
 }
 
 #[derive(Serialize)]
@@ -80,6 +113,9 @@ struct BranchJson {
     energy: Vec<String>,
     multiplicity: usize,
     split_at: Option<u32>,
+    /// The unperturbed state(s) the branch comes from: its zeroth-order state, or a basis of its
+    /// group's zeroth-order space while it has not split.
+    states: Vec<String>,
     #[serde(skip_serializing_if = "Option::is_none")]
     not_split: Option<NotSplitJson>,
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -108,6 +144,10 @@ struct SecularJson {
     multiplicities: Vec<usize>,
 }
 
+fn is_true(value: &bool) -> bool {
+    *value
+}
+
 /// The JSON of `cleave derive --json`: the contract's fields, plus `roots` (the `root(P, k)` values
 /// mention, when there are any), `secular_equations`, `notes`, and per branch its `state` and,
 /// where the reduction stopped, `not_split`.
@@ -133,6 +173,9 @@ pub fn json(model: &Model, derivation: &Derivation) -> String {
             .map(|space| ModelSpaceJson {
                 unperturbed: space.unperturbed.iter().map(|e| text::scalar(e, &names)).collect(),
                 basis: space.basis.iter().map(|v| text::state(v, basis, &names)).collect(),
+                normalized: space.normalized,
+                basis_norms: (!space.normalized)
+                    .then(|| space.basis_norms.iter().map(|n| text::scalar(n, &names)).collect()),
                 effective_hamiltonian: space
                     .effective_hamiltonian
                     .iter()
@@ -150,6 +193,11 @@ pub fn json(model: &Model, derivation: &Derivation) -> String {
                         energy: b.energy.iter().map(|e| text::scalar(e, &names)).collect(),
                         multiplicity: b.multiplicity,
                         split_at: b.split_at,
+                        states: b
+                            .zeroth_order
+                            .iter()
+                            .map(|v| text::state(v, basis, &names))
+                            .collect(),
                         not_split: b.not_split.as_ref().map(|ns| NotSplitJson {
                             order: ns.order,
                             characteristic_polynomial: text::polynomial(&ns.characteristic, &names),
@@ -177,6 +225,43 @@ pub fn json(model: &Model, derivation: &Derivation) -> String {
                     })
                     .collect(),
                 notes: space.notes.iter().map(super::report::note_text).collect(),
+                operator_form: space.operator_form.as_ref().map(|form| OperatorFormJson {
+                    target: form.names.clone(),
+                    operators: match form.target {
+                        Target::Spins => "spin",
+                        Target::Qubits => "pauli",
+                    },
+                    terms: form
+                        .terms
+                        .iter()
+                        .map(|t| OperatorTermJson {
+                            factors: t
+                                .factors
+                                .iter()
+                                .map(|(k, c)| {
+                                    [
+                                        form.names[*k].clone(),
+                                        super::operators::component_name(form.target, *c)
+                                            .to_string(),
+                                    ]
+                                })
+                                .collect(),
+                            coefficient: t
+                                .coefficient
+                                .iter()
+                                .map(|c| text::scalar(c, &names))
+                                .collect(),
+                        })
+                        .collect(),
+                }),
+            })
+            .collect(),
+        quantities: derivation
+            .quantities
+            .iter()
+            .map(|q| QuantityJson {
+                name: q.name.clone(),
+                series: q.series.iter().map(|c| text::scalar(c, &names)).collect(),
             })
             .collect(),
     };

@@ -6,6 +6,7 @@
 mod check;
 mod json;
 mod latex;
+mod operators;
 mod report;
 mod rust;
 mod terms;

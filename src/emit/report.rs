@@ -4,10 +4,10 @@ use std::fmt::Write;
 
 use super::{text, ParamValues};
 use crate::check;
-use crate::engine::{Derivation, MissingState, ModelSpace, Note};
+use crate::engine::{Derivation, MissingState, ModelSpace, Note, OperatorForm};
 use crate::exact::{Field, RatFunc, SquareRoot};
 use crate::linalg::{DenseMatrix, SparseVec};
-use crate::model::Model;
+use crate::model::{Model, Target};
 use crate::spectrum::Spectrum;
 
 /// A vector scaled to unit norm when the square root of its norm is exact.
@@ -90,7 +90,35 @@ pub fn report(model: &Model, derivation: &Derivation, name: &str, at: &ParamValu
         let _ = writeln!(out);
         model_space_report(&mut out, model, space, k + 1, &names, at, derivation.order);
     }
+    if !derivation.quantities.is_empty() {
+        let _ = writeln!(out);
+        let _ = writeln!(out, "== Quantities");
+        for quantity in &derivation.quantities {
+            let _ = writeln!(out, "{} = {}", quantity.name, text::series(&quantity.series, &names));
+            for (k, c) in quantity.series.iter().enumerate() {
+                let value = numeric_suffix(c, &names, at);
+                let _ =
+                    writeln!(out, "  {}^({k}) = {}{value}", quantity.name, text::scalar(c, &names));
+            }
+        }
+    }
     out
+}
+
+/// The operator form of a model space's effective Hamiltonian, grouped as the trade groups it.
+fn operator_form_report(out: &mut String, form: &OperatorForm, names: &text::Names) {
+    let (what, convention) = match form.target {
+        Target::Spins => ("spins", "S^a = sigma^a/2; dot(a, b) = a.x*b.x + a.y*b.y + a.z*b.z"),
+        Target::Qubits => ("qubits", "Pauli matrices X, Y, Z; |0> has Z = +1"),
+    };
+    let _ = writeln!(
+        out,
+        "effective Hamiltonian in {what} {} ({convention}), coefficient series:",
+        form.names.join(", ")
+    );
+    for term in super::operators::grouped(form) {
+        let _ = writeln!(out, "  {}: {}", term.label, text::series(&term.coefficient, names));
+    }
 }
 
 fn model_space_report(
@@ -161,6 +189,17 @@ fn model_space_report(
             None => "never splits".to_string(),
         };
         let _ = writeln!(out, "  ({}) multiplicity {}, {}", b + 1, branch.multiplicity, split);
+        let states: Vec<String> =
+            branch.zeroth_order.iter().map(|v| text::state(v, basis, names)).collect();
+        match states.as_slice() {
+            [] => {}
+            [one] => {
+                let _ = writeln!(out, "      from {one}");
+            }
+            several => {
+                let _ = writeln!(out, "      from the span of {}", several.join(", "));
+            }
+        }
         let _ = writeln!(out, "      E = {}", text::series(&branch.energy, names));
         for (k, c) in branch.energy.iter().enumerate() {
             let value = numeric_suffix(c, names, at);
@@ -210,6 +249,9 @@ fn model_space_report(
                 "  A branch that splits at order s has its state determined only to order N - s."
             );
         }
+    }
+    if let Some(form) = &space.operator_form {
+        operator_form_report(out, form, names);
     }
     for note in &space.notes {
         let _ = writeln!(out, "note: {}", note_text(note));

@@ -21,7 +21,12 @@ mod algebraic;
 mod bloch;
 mod fast;
 mod notes;
+mod operator_form;
+mod quantities;
 mod split;
+
+pub use operator_form::{Component, OperatorForm, OperatorTerm};
+pub use quantities::QuantitySeries;
 
 use std::cell::OnceCell;
 use std::collections::BTreeSet;
@@ -71,6 +76,8 @@ pub struct Derivation {
     /// Algebraic numbers that square roots cannot write; root `r` appears in values as the symbol
     /// `ParamId(parameters.len() + r)`.
     pub roots: Vec<RootAtom>,
+    /// The model's named quantities, in declaration order.
+    pub quantities: Vec<QuantitySeries>,
 }
 
 impl Derivation {
@@ -129,6 +136,9 @@ pub struct ModelSpace {
     pub secular: Vec<SecularEquation>,
     /// Things the reader must know about these results.
     pub notes: Vec<Note>,
+    /// The effective Hamiltonian written in spin or qubit operators, where the `focus` line
+    /// asked for it.
+    pub operator_form: Option<OperatorForm>,
 }
 
 /// One eigenvalue branch `E(lambda) = sum_k lambda^k energy[k]`.
@@ -143,6 +153,11 @@ pub struct Branch {
     pub split_at: Option<u32>,
     /// The state, when the branch is a single one.
     pub state: Option<StateSeries>,
+    /// The unperturbed states the branch comes from, in the product basis: its zeroth-order
+    /// state when it is a single one, else a basis of its group's zeroth-order space (normalized
+    /// where the square root of the norm is exact). Empty only for a branch written with an
+    /// algebraic root whose state could not be formed.
+    pub zeroth_order: Vec<SparseVec<RatFunc>>,
     /// Why `state` is absent, when it is.
     pub state_missing: Option<MissingState>,
     /// Set when the secular matrix of this group could not be split exactly.
@@ -229,6 +244,15 @@ pub enum EngineError {
     },
     /// The order asked for is outside `1..=MAX_ORDER`.
     BadOrder(String),
+    /// A term of a named quantity names no single branch.
+    BadQuantity {
+        /// Index of the quantity (in [`Model::quantities`] order).
+        quantity: usize,
+        /// Index of its term.
+        term: usize,
+        /// What is wrong.
+        message: String,
+    },
 }
 
 impl std::fmt::Display for EngineError {
@@ -237,7 +261,8 @@ impl std::fmt::Display for EngineError {
             EngineError::Infeasible(why)
             | EngineError::BadInput(why)
             | EngineError::BadOrder(why)
-            | EngineError::BadFocus { message: why, .. } => write!(f, "{why}"),
+            | EngineError::BadFocus { message: why, .. }
+            | EngineError::BadQuantity { message: why, .. } => write!(f, "{why}"),
         }
     }
 }
@@ -351,12 +376,26 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
              computes over the rationals"
         )));
     }
+    if model.focus().is_empty() {
+        // Without focus lines there are no targets.
+    } else {
+        for (space, target) in model_spaces.iter_mut().zip(model.targets()) {
+            if let Some(target) = target {
+                space.operator_form = Some(
+                    operator_form::operator_form(model, space, *target)
+                        .map_err(EngineError::Infeasible)?,
+                );
+            }
+        }
+    }
+    let quantities = quantities::quantities(model, &model_spaces, order)?;
     Ok(Derivation {
         order,
         parameters: model.param_names(),
         spectrum,
         model_spaces,
         roots: ctx.roots,
+        quantities,
     })
 }
 
@@ -496,6 +535,7 @@ fn solve_one_state(
         vector: None,
         isolated_at: 0,
         not_split: None,
+        span: vec![SparseVec::from_pairs(vec![(0, Rational::one())])],
     };
     Ok(RawSpace { bloch, branches: vec![branch], secular: Vec::new(), vectors, omega_support })
 }
@@ -571,6 +611,7 @@ fn to_solved<F: Scalar>(
                 vector: None,
                 isolated_at: b.isolated_at,
                 not_split: b.not_split.clone(),
+                span: b.span.iter().map(|v| v.map(|_, x| x.to_ratfunc())).collect(),
             })
             .collect(),
         vectors,
@@ -698,7 +739,21 @@ fn solve_model_space(
                 (None, true) => Some(MissingState::RadicandTooLarge),
                 (None, false) => Some(MissingState::Extension),
             };
+            let zeroth_order = match &state {
+                Some(series) => vec![series.coefficients[0].clone()],
+                None => b
+                    .span
+                    .iter()
+                    .map(|v| {
+                        let working_vec = SparseVec::from_pairs(
+                            v.entries().iter().map(|(a, x)| (indices[*a], x.clone())).collect(),
+                        );
+                        unit_where_exact(to_product(&working_vec))
+                    })
+                    .collect(),
+            };
             Branch {
+                zeroth_order,
                 energy: b.energy.clone(),
                 multiplicity: b.multiplicity,
                 split_at: if n_basis == 1 { None } else { b.split_at.map(|s| s as u32) },
@@ -731,6 +786,7 @@ fn solve_model_space(
             })
             .collect(),
         notes,
+        operator_form: None,
     }
 }
 
@@ -757,6 +813,15 @@ fn reduce_state_roots(
         })
         .collect::<Option<Vec<_>>>()?;
     Some(StateSeries { coefficients, determined_to: state.determined_to })
+}
+
+/// `v` divided by its norm where the norm's square root is exact, else `v`.
+fn unit_where_exact(v: SparseVec<RatFunc>) -> SparseVec<RatFunc> {
+    let norm = v.conj().dot(&v);
+    match norm.sqrt().and_then(|r| r.inv()) {
+        Some(inv_root) => v.scale(&inv_root),
+        None => v,
+    }
 }
 
 /// Rescales `psi(lambda)` so that `<psi0|psi(lambda)> = <psi0|psi0>` and keeps orders `0..=keep`.

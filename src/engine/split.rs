@@ -35,6 +35,10 @@ pub(crate) struct RawBranch<F> {
     pub vector: Option<Vec<SparseVec<F>>>,
     /// Order at which the branch stood alone (its vector is determined to `N - isolated_at`).
     pub isolated_at: usize,
+    /// Zeroth-order states spanning the branch's group (one for a single branch), in the
+    /// coordinates of the stage that asked; empty where they are not in this field (a branch
+    /// written with an algebraic root).
+    pub span: Vec<SparseVec<F>>,
     /// Set when the reduction stopped because a secular matrix could not be split exactly.
     pub not_split: Option<eigen::NotSplit>,
 }
@@ -79,8 +83,10 @@ pub(crate) fn branches<F: Scalar>(
             ),
             isolated_at: offset,
             not_split: None,
+            span: vec![SparseVec::from_pairs(vec![(0, F::one())])],
         }]);
     }
+    let whole = || (0..d).map(|k| SparseVec::from_pairs(vec![(k, F::one())])).collect();
     if let Some(mu) = scalar_value(a0) {
         if stage.series.len() == 1 {
             return Ok(vec![RawBranch {
@@ -90,6 +96,7 @@ pub(crate) fn branches<F: Scalar>(
                 vector: None,
                 isolated_at: offset,
                 not_split: None,
+                span: whole(),
             }]);
         }
         let child = Stage { series: stage.series[1..].to_vec(), metric: stage.metric.clone() };
@@ -117,6 +124,7 @@ pub(crate) fn branches<F: Scalar>(
                         energy: b.energy,
                         multiplicity: 1,
                         split_at: Some(offset),
+                        span: Vec::new(),
                         vector: b
                             .vector
                             .iter()
@@ -139,6 +147,7 @@ pub(crate) fn branches<F: Scalar>(
                 vector: None,
                 isolated_at: offset,
                 not_split: Some(not_split),
+                span: whole(),
             }]);
         }
     };
@@ -195,12 +204,14 @@ pub(crate) fn branches<F: Scalar>(
         };
         for mut b in branches(child, offset, ctx)? {
             b.split_at = b.split_at.or(Some(offset));
-            b.vector = b.vector.map(|c| {
-                lift(&bloch, &c)
-                    .into_iter()
-                    .map(|v| dense_to_sparse(u.mul_vec(&sparse_to_dense(&v, d))))
-                    .collect()
-            });
+            let to_stage = |v: SparseVec<F>| dense_to_sparse(u.mul_vec(&sparse_to_dense(&v, d)));
+            b.vector = b.vector.map(|c| lift(&bloch, &c).into_iter().map(to_stage).collect());
+            // At order zero the wave operator is the embedding of the group.
+            b.span = b
+                .span
+                .iter()
+                .map(|v| to_stage(lift(&bloch, std::slice::from_ref(v)).remove(0)))
+                .collect();
             res.push(b);
         }
     }

@@ -21,6 +21,9 @@ pub(super) enum Value {
     Operator(OperatorExpr),
     /// `up` while `s in [up, dn]` runs: usable only as an index.
     Label(String),
+    /// A combination of branch energies `Σ w E|state>`, in a `quantity` line: each state as
+    /// written with its weight.
+    Energies(Vec<(ast::StateKet, RatFunc)>),
 }
 
 /// What a name stands for.
@@ -42,6 +45,8 @@ pub(super) struct Scope {
     spaces: Vec<Space>,
     /// Index variables of the `sum`s being evaluated, innermost last.
     locals: RefCell<Vec<(String, Value)>>,
+    /// Whether a `quantity` line is being evaluated (where `E|...>` may appear).
+    in_quantity: std::cell::Cell<bool>,
 }
 
 impl Scope {
@@ -52,7 +57,12 @@ impl Scope {
             let id = ParamId(u32::try_from(k).unwrap_or(u32::MAX));
             names.insert(name.clone(), Binding::Param(id));
         }
-        Scope { names, spaces, locals: RefCell::new(Vec::new()) }
+        Scope {
+            names,
+            spaces,
+            locals: RefCell::new(Vec::new()),
+            in_quantity: std::cell::Cell::new(false),
+        }
     }
 
     pub(super) fn bind(&mut self, name: &str, binding: Binding) {
@@ -64,7 +74,24 @@ impl Scope {
         match value {
             Value::Scalar(scalar) => Some(OperatorExpr::identity().scale(&scalar)),
             Value::Operator(operator) => Some(operator),
-            Value::Label(_) => None,
+            Value::Label(_) | Value::Energies(_) => None,
+        }
+    }
+
+    /// Evaluates the value of a `quantity` line: a combination of branch energies.
+    pub(super) fn eval_quantity(
+        &self,
+        expr: &ast::Expr,
+    ) -> Result<Vec<(ast::StateKet, RatFunc)>, Diagnostic> {
+        self.in_quantity.set(true);
+        let value = self.eval(expr);
+        self.in_quantity.set(false);
+        match value? {
+            Value::Energies(terms) if !terms.is_empty() => Ok(terms),
+            _ => Err(LowerError::Expected {
+                what: "a quantity is a combination of branch energies like `E|1, 0> - E|0, 0>`",
+            })
+            .at(expr.span),
         }
     }
 
@@ -92,10 +119,18 @@ impl Scope {
             ast::ExprKind::Call { function, args } => self.eval_call(function, args, expr.span)?,
             ast::ExprKind::Matrix { space, rows } => self.eval_matrix(space, rows, expr.span)?,
             ast::ExprKind::Sum { binders, body } => self.eval_sum(binders, body, expr.span)?,
+            ast::ExprKind::BranchEnergy(ket) => {
+                if !self.in_quantity.get() {
+                    return Err(LowerError::Expected {
+                        what: "a branch energy `E|...>` can stand only in a `quantity` line",
+                    })
+                    .at(expr.span);
+                }
+                Value::Energies(vec![(ket.clone(), RatFunc::one())])
+            }
             ast::ExprKind::Neg(operand) => match self.eval(operand)? {
-                Value::Scalar(s) => Value::Scalar(-s),
-                Value::Operator(o) => Value::Operator(o.scale(&-RatFunc::one())),
                 Value::Label(_) => return Err(LowerError::BadIndex).at(operand.span),
+                value => negate(value),
             },
             ast::ExprKind::Binary { op, lhs, rhs } => self.eval_binary(*op, lhs, rhs)?,
         };
@@ -409,7 +444,7 @@ impl Scope {
             "dagger" | "adj" => match self.eval(&args[0])? {
                 Value::Scalar(s) => Ok(Value::Scalar(s.conj())),
                 Value::Operator(o) => Ok(Value::Operator(o.adjoint())),
-                Value::Label(_) => Err(LowerError::BadIndex).at(args[0].span),
+                _ => Err(LowerError::BadIndex).at(args[0].span),
             },
             "cg" | "threej" => {
                 let mut twice = [0i64; 6];
@@ -532,6 +567,20 @@ impl Scope {
             | (ast::BinaryOp::Mul, Value::Operator(o), Value::Scalar(s)) => {
                 Value::Operator(o.scale(&s))
             }
+            (ast::BinaryOp::Mul, Value::Scalar(s), Value::Energies(e))
+            | (ast::BinaryOp::Mul, Value::Energies(e), Value::Scalar(s)) => {
+                Value::Energies(e.into_iter().map(|(k, w)| (k, w * &s)).collect())
+            }
+            (ast::BinaryOp::Div, Value::Energies(e), Value::Scalar(divisor)) => {
+                let inverse = divisor.inv().ok_or(LowerError::DivisionByZero).at(rhs.span)?;
+                Value::Energies(e.into_iter().map(|(k, w)| (k, w * &inverse)).collect())
+            }
+            (_, Value::Energies(_), _) | (_, _, Value::Energies(_)) => {
+                return Err(LowerError::Expected {
+                    what: "branch energies combine only by sums and scalar weights",
+                })
+                .at(lhs.span.to(rhs.span))
+            }
             (ast::BinaryOp::Div | ast::BinaryOp::Rem, _, Value::Operator(_)) => {
                 return Err(LowerError::DivisionByOperator).at(rhs.span);
             }
@@ -540,7 +589,7 @@ impl Scope {
                 match left {
                     Value::Scalar(s) => Value::Scalar(s * inverse),
                     Value::Operator(o) => Value::Operator(o.scale(&inverse)),
-                    Value::Label(_) => unreachable!("labels are refused above"),
+                    _ => unreachable!("labels and energies are handled above"),
                 }
             }
             (ast::BinaryOp::Rem, left, Value::Scalar(divisor)) => {
@@ -577,7 +626,9 @@ impl Scope {
         }
         let rational = self.as_rational(&exponent_value);
         let n = match (&base, rational) {
-            (Value::Label(_), _) => return Err(LowerError::BadIndex).at(base_expr.span),
+            (Value::Label(_) | Value::Energies(_), _) => {
+                return Err(LowerError::BadIndex).at(base_expr.span)
+            }
             (Value::Operator(_), Some(r)) if !r.is_integer() || r.is_negative() => {
                 return Err(LowerError::BadOperatorPower).at(exponent.span);
             }
@@ -596,7 +647,7 @@ impl Scope {
                 Ok(Value::Scalar(power))
             }
             Value::Operator(o) => Ok(Value::Operator(o.pow(n as u64))),
-            Value::Label(_) => unreachable!("refused above"),
+            _ => unreachable!("refused above"),
         }
     }
 
@@ -679,6 +730,7 @@ fn negate(value: Value) -> Value {
     match value {
         Value::Scalar(s) => Value::Scalar(-s),
         Value::Operator(o) => Value::Operator(o.scale(&-RatFunc::one())),
+        Value::Energies(e) => Value::Energies(e.into_iter().map(|(k, w)| (k, -w)).collect()),
         label => label,
     }
 }
@@ -690,6 +742,19 @@ fn add_values(a: Value, b: Value) -> Result<Value, LowerError> {
         (Value::Operator(a), Value::Operator(b)) => Value::Operator(a.add(&b)),
         (Value::Scalar(s), Value::Operator(o)) | (Value::Operator(o), Value::Scalar(s)) => {
             Value::Operator(o.add_scalar(&s))
+        }
+        (Value::Energies(mut a), Value::Energies(b)) => {
+            for (ket, w) in b {
+                let same = |k: &ast::StateKet| {
+                    k.fields.iter().map(|f| &f.0).eq(ket.fields.iter().map(|f| &f.0))
+                };
+                match a.iter_mut().find(|(k, _)| same(k)) {
+                    Some((_, acc)) => *acc += &w,
+                    None => a.push((ket, w)),
+                }
+            }
+            a.retain(|(_, w)| !w.is_zero());
+            Value::Energies(a)
         }
         _ => return Err(LowerError::BadIndex),
     })

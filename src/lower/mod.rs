@@ -32,6 +32,9 @@ pub struct SourceMap {
     pub focus: Vec<Span>,
     /// The `order` statement, if any.
     pub order: Option<Span>,
+    /// Each `quantity` statement, with the span of each of its `E|...>` terms (in
+    /// [`Model::quantities`] order).
+    pub quantities: Vec<(Span, Vec<Span>)>,
 }
 
 impl SourceMap {
@@ -75,6 +78,7 @@ pub fn lower(file: &ast::File) -> Result<(Model, SourceMap), Diagnostic> {
     let mut terms: BTreeMap<usize, (String, model::OperatorExpr, Span, Span)> = BTreeMap::new();
     let mut focus_lines: Vec<&ast::FocusDecl> = Vec::new();
     let mut sectors: Vec<SectorCondition> = Vec::new();
+    let mut quantity_decls: Vec<(&ast::QuantityDecl, Vec<(ast::StateKet, RatFunc)>)> = Vec::new();
     let mut order = None;
     let mut order_span = None;
     for statement in &file.statements {
@@ -105,6 +109,10 @@ pub fn lower(file: &ast::File) -> Result<(Model, SourceMap), Diagnostic> {
                 scope.bind(&def.name.name, Binding::Value(value));
             }
             ast::Statement::Focus(decl) => focus_lines.push(decl),
+            ast::Statement::Quantity(decl) => {
+                let terms = scope.eval_quantity(&decl.value)?;
+                quantity_decls.push((decl, terms));
+            }
             ast::Statement::Sector(decl) => {
                 for item in &decl.items {
                     let operator = match scope.eval(&item.operator)? {
@@ -200,6 +208,30 @@ pub fn lower(file: &ast::File) -> Result<(Model, SourceMap), Diagnostic> {
         }
     }
     let (focus, focus_spans) = lower_focus(&scope, &focus_lines, &basis, &h0)?;
+    let mut targets = Vec::new();
+    for decl in &focus_lines {
+        targets.push(match decl.target.as_ref().map(|t| t.name.as_str()) {
+            Some("spins") => Some(model::Target::Spins),
+            Some("qubits") => Some(model::Target::Qubits),
+            _ => None,
+        });
+    }
+    let mut quantities = Vec::new();
+    let mut quantity_spans = Vec::new();
+    for (decl, terms) in quantity_decls {
+        if quantities.iter().any(|q: &model::Quantity| q.name == decl.name.name) {
+            return Err(LowerError::DeclaredTwice { name: decl.name.name.clone() })
+                .at(decl.name.span);
+        }
+        let mut resolved = Vec::new();
+        let mut spans = Vec::new();
+        for (ket, weight) in terms {
+            resolved.push((resolve_state(&ket, &basis)?, weight));
+            spans.push(ket.span);
+        }
+        quantities.push(model::Quantity { name: decl.name.name.clone(), terms: resolved });
+        quantity_spans.push((decl.span, spans));
+    }
     let h0_for_errors = h0.clone();
     let perturbations_for_errors = perturbations.clone();
     let error_basis = basis.clone();
@@ -231,6 +263,7 @@ pub fn lower(file: &ast::File) -> Result<(Model, SourceMap), Diagnostic> {
             }
         }
     })?;
+    let model = model.with_targets(targets).with_quantities(quantities);
     let source_map = SourceMap {
         params: param_spans,
         spaces: declared.spans,
@@ -238,6 +271,7 @@ pub fn lower(file: &ast::File) -> Result<(Model, SourceMap), Diagnostic> {
         perturbations: perturbation_spans,
         focus: focus_spans,
         order: order_span,
+        quantities: quantity_spans,
     };
     Ok((model, source_map))
 }
@@ -337,6 +371,24 @@ fn state_energy(
     basis: &Basis,
     h0: &model::Operator,
 ) -> Result<RatFunc, Diagnostic> {
+    let idx = resolve_state(ket, basis)?;
+    let row = h0.row(idx);
+    let diagonal_only = row.entries().iter().all(|(col, _)| *col == idx)
+        && (0..basis.dimension()).all(|r| r == idx || h0.get(r, idx).is_zero());
+    if !diagonal_only {
+        return Err(LowerError::NotAnEigenstate { ket: ket_text(ket) })
+            .at(ket.span)
+            .map_err(|d| d.with_hint("name its level by its H0 energy instead"));
+    }
+    Ok(h0.get(idx, idx))
+}
+
+fn ket_text(ket: &ast::StateKet) -> String {
+    format!("|{}>", ket.fields.iter().map(|(text, _)| text.as_str()).collect::<Vec<_>>().join(", "))
+}
+
+/// The basis index of the product state `ket`.
+fn resolve_state(ket: &ast::StateKet, basis: &Basis) -> Result<usize, Diagnostic> {
     let written = format!(
         "|{}>",
         ket.fields.iter().map(|(text, _)| text.as_str()).collect::<Vec<_>>().join(", ")
@@ -380,19 +432,10 @@ fn state_energy(
             .at(span)?;
         digits.push(local);
     }
-    let idx = basis
+    basis
         .index_of(layout.key_of(&digits))
         .ok_or(LowerError::StateOutsideSector { ket: written.clone() })
-        .at(ket.span)?;
-    let row = h0.row(idx);
-    let diagonal_only = row.entries().iter().all(|(col, _)| *col == idx)
-        && (0..basis.dimension()).all(|r| r == idx || h0.get(r, idx).is_zero());
-    if !diagonal_only {
-        return Err(LowerError::NotAnEigenstate { ket: written })
-            .at(ket.span)
-            .map_err(|d| d.with_hint("name its level by its H0 energy instead"));
-    }
-    Ok(h0.get(idx, idx))
+        .at(ket.span)
 }
 
 /// The span of the value of the term statement at `statement`, so that a Hermiticity error
@@ -473,6 +516,7 @@ fn check_declarations(file: &ast::File) -> Result<(), Diagnostic> {
                 // `V` and `V1` name one term; the later one is caught when terms are collected.
                 declare(&def.name)?
             }
+            ast::Statement::Quantity(decl) => declare(&decl.name)?,
             ast::Statement::Focus(_) | ast::Statement::Order(_) | ast::Statement::Sector(_) => {}
         }
     }

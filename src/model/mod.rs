@@ -30,6 +30,27 @@ pub struct Param {
     pub positive: bool,
 }
 
+/// A named linear combination of branch energies (`quantity ZZ = E|1, 1> - ...`): each term a
+/// basis state, naming the branch that comes from it, and a weight.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Quantity {
+    /// The name as written.
+    pub name: String,
+    /// `(basis state, weight)` pairs.
+    pub terms: Vec<(usize, RatFunc)>,
+}
+
+/// The operators a model space's effective Hamiltonian is also written in (`focus ... as spins`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Target {
+    /// One spin 1/2 per singly occupied site of a fermion space (up is `+1/2`), and every
+    /// `spin(1/2)` space as itself; terms are products of `S^x`, `S^y`, `S^z`.
+    Spins,
+    /// One qubit per ladder, oscillator or two-level space, its two lowest states `|0>`, `|1>`;
+    /// terms are products of the Pauli matrices `X`, `Y`, `Z`.
+    Qubits,
+}
+
 /// A perturbation problem `H(lambda) = H0 + lambda V1 + lambda^2 V2 + ...` on a product basis.
 ///
 /// Invariants (checked by [`Model::new`]): every operator is square of the basis dimension and
@@ -42,6 +63,8 @@ pub struct Model {
     perturbations: Vec<Operator>,
     focus: Vec<Vec<RatFunc>>,
     order: Option<u32>,
+    targets: Vec<Option<Target>>,
+    quantities: Vec<Quantity>,
 }
 
 /// Why a [`Model`] could not be built from its parts.
@@ -88,7 +111,37 @@ impl Model {
                 return Err(ModelError::NotHermitian { term, row, col });
             }
         }
-        Ok(Model { params, basis, h0, perturbations, focus, order })
+        let targets = vec![None; focus.len()];
+        Ok(Model {
+            params,
+            basis,
+            h0,
+            perturbations,
+            focus,
+            order,
+            targets,
+            quantities: Vec::new(),
+        })
+    }
+    /// The same model with operator targets for its `focus` lines (`targets[k]` for line `k`;
+    /// missing entries are `None`).
+    pub fn with_targets(mut self, mut targets: Vec<Option<Target>>) -> Model {
+        targets.resize(self.focus.len(), None);
+        self.targets = targets;
+        self
+    }
+    /// The same model with named quantities; every state index must be in the basis.
+    pub fn with_quantities(mut self, quantities: Vec<Quantity>) -> Model {
+        self.quantities = quantities;
+        self
+    }
+    /// The operator target of each `focus` line.
+    pub fn targets(&self) -> &[Option<Target>] {
+        &self.targets
+    }
+    /// The named quantities.
+    pub fn quantities(&self) -> &[Quantity] {
+        &self.quantities
     }
     /// The declared parameters; `ParamId(k)` is `params()[k]`.
     pub fn params(&self) -> &[Param] {

@@ -33,6 +33,8 @@ pub enum Statement {
     Order(OrderDecl),
     /// `sector N = 3, Sz = 1/2`
     Sector(SectorDecl),
+    /// `quantity ZZ = E|1, 1> - E|1, 0> - E|0, 1> + E|0, 0>`
+    Quantity(QuantityDecl),
 }
 
 impl Statement {
@@ -46,6 +48,7 @@ impl Statement {
             Statement::Focus(decl) => decl.span,
             Statement::Order(decl) => decl.span,
             Statement::Sector(decl) => decl.span,
+            Statement::Quantity(decl) => decl.span,
         }
     }
 }
@@ -222,6 +225,8 @@ pub struct TermDef {
 pub struct FocusDecl {
     /// The levels, each named by its energy or by one of its states.
     pub items: Vec<FocusItem>,
+    /// `as spins`, `as qubits`: the operators to write the effective Hamiltonian in.
+    pub target: Option<Ident>,
     /// The whole statement.
     pub span: Span,
 }
@@ -252,6 +257,18 @@ pub struct StateKet {
     /// The fields as written, with where each is.
     pub fields: Vec<(String, Span)>,
     /// The whole ket.
+    pub span: Span,
+}
+
+/// `quantity chi = (E|1, 1> - E|1, 0> - E|0, 1> + E|0, 0>) / 2`: a named linear combination of
+/// branch energies.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct QuantityDecl {
+    /// The quantity's name.
+    pub name: Ident,
+    /// Its value, made of `E|...>` terms.
+    pub value: Expr,
+    /// The whole statement.
     pub span: Span,
 }
 
@@ -309,6 +326,8 @@ pub enum ExprKind {
         /// `lower`.
         member: Ident,
     },
+    /// `E|1, 0>`: the energy series of the branch that comes from this state.
+    BranchEnergy(StateKet),
     /// `sum(i in 1..N, s in [up, dn]: expr)`.
     Sum {
         /// The index variables, outermost first.

@@ -62,6 +62,8 @@ fn is_keyword(rule: Rule) -> bool {
             | Rule::kw_focus
             | Rule::kw_order
             | Rule::kw_sector
+            | Rule::kw_quantity
+            | Rule::kw_as
             | Rule::kw_sum
             | Rule::kw_in
     )
@@ -76,6 +78,13 @@ fn parse_statement(pair: Pair<'_, Rule>) -> ast::Statement {
         Rule::focus_decl => ast::Statement::Focus(parse_focus_decl(pair)),
         Rule::order_decl => ast::Statement::Order(parse_order_decl(pair)),
         Rule::sector_decl => ast::Statement::Sector(parse_sector_decl(pair)),
+        Rule::quantity_decl => {
+            let span = span_of(&pair);
+            let mut inner = children(pair).filter(|p| !is_keyword(p.as_rule()));
+            let name = parse_ident(inner.next().expect("grammar: quantity name"));
+            let value = parse_expr(inner.next().expect("grammar: quantity value"));
+            ast::Statement::Quantity(ast::QuantityDecl { name, value, span })
+        }
         rule => unreachable!("grammar: {rule:?} is not a statement"),
     }
 }
@@ -169,14 +178,16 @@ fn parse_term_def(pair: Pair<'_, Rule>) -> ast::TermDef {
 
 fn parse_focus_decl(pair: Pair<'_, Rule>) -> ast::FocusDecl {
     let span = span_of(&pair);
-    let items = children(pair)
-        .filter(|p| !is_keyword(p.as_rule()))
-        .map(|p| match p.as_rule() {
-            Rule::state_ket => ast::FocusItem::State(parse_state_ket(p)),
-            _ => ast::FocusItem::Energy(parse_expr(p)),
-        })
-        .collect();
-    ast::FocusDecl { items, span }
+    let mut items = Vec::new();
+    let mut target = None;
+    for p in children(pair).filter(|p| !is_keyword(p.as_rule())) {
+        match p.as_rule() {
+            Rule::state_ket => items.push(ast::FocusItem::State(parse_state_ket(p))),
+            Rule::target => target = Some(parse_ident(p)),
+            _ => items.push(ast::FocusItem::Energy(parse_expr(p))),
+        }
+    }
+    ast::FocusDecl { items, target, span }
 }
 
 fn parse_state_ket(pair: Pair<'_, Rule>) -> ast::StateKet {
@@ -294,6 +305,7 @@ fn parse_atom(pair: Pair<'_, Rule>) -> ast::Expr {
         }
         Rule::call => parse_call(pair),
         Rule::sum_call => parse_sum_call(pair),
+        Rule::branch_energy => ast::ExprKind::BranchEnergy(parse_state_ket(first_inner(pair))),
         Rule::member => parse_member(pair),
         Rule::matrix_call => parse_matrix_call(pair),
         Rule::ket_bra => parse_ket_bra(pair),
@@ -503,6 +515,8 @@ fn describe(rule: Rule) -> &'static str {
         | Rule::order_decl
         | Rule::kw_sector
         | Rule::sector_decl
+        | Rule::kw_quantity
+        | Rule::quantity_decl
         | Rule::term_def
         // Pest names the whole file when no statement could start at the beginning.
         | Rule::file => DESCRIPTIONS[0],
@@ -518,6 +532,7 @@ fn describe(rule: Rule) -> &'static str {
         | Rule::member
         | Rule::matrix_call
         | Rule::sum_call
+        | Rule::branch_energy
         | Rule::index
         | Rule::ket_bra
         | Rule::sector_item => DESCRIPTIONS[2],

@@ -588,7 +588,7 @@ focus 7*a
     assert!(stderr.contains("model.clv:7:1: focus energy 7*a is not an H0 level"), "{stderr}");
     let focused = "param g\nspace s = spin(1/2)\nH0 = s.z\nV = g * s.x\nfocus 1/2\n";
     for flag in ["0", "1000000"] {
-        let (status, stderr) = run_cleave(&focused, &["derive", "model.clv", "--order", flag]);
+        let (status, stderr) = run_cleave(focused, &["derive", "model.clv", "--order", flag]);
         assert_eq!(status, 2, "{stderr}");
         assert!(stderr.starts_with("error: --order:"), "--order {flag}: {stderr}");
     }
@@ -671,9 +671,11 @@ fn example_dot_trimer() {
 fn every_example_is_snapshotted() {
     let covered = [
         "axial_spin",
+        "dispersive_readout",
         "dot_trimer",
         "holstein_dimer",
         "hubbard_dimer",
+        "hubbard_dimer_spin",
         "hubbard_ring4",
         "hubbard_triangle",
         "lambda_three_level",
@@ -1012,6 +1014,16 @@ fn example_rotor_stark() {
 #[test]
 fn example_two_transmons() {
     check_example("two_transmons", include_str!("../../examples/two_transmons.clv"));
+}
+
+#[test]
+fn example_hubbard_dimer_spin() {
+    check_example("hubbard_dimer_spin", include_str!("../../examples/hubbard_dimer_spin.clv"));
+}
+
+#[test]
+fn example_dispersive_readout() {
+    check_example("dispersive_readout", include_str!("../../examples/dispersive_readout.clv"));
 }
 
 #[test]

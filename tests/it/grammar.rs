@@ -78,9 +78,15 @@ fn statement(statement: &ast::Statement) -> String {
                     }
                 })
                 .collect();
-            format!("(focus {})", items.join(" "))
+            match &decl.target {
+                Some(target) => format!("(focus {} as {})", items.join(" "), target.name),
+                None => format!("(focus {})", items.join(" ")),
+            }
         }
         ast::Statement::Order(decl) => format!("(order {})", expr(&decl.order)),
+        ast::Statement::Quantity(decl) => {
+            format!("(quantity {} {})", decl.name.name, expr(&decl.value))
+        }
         ast::Statement::Sector(decl) => {
             let items: Vec<String> = decl
                 .items
@@ -124,6 +130,10 @@ fn expr(e: &ast::Expr) -> String {
         ast::ExprKind::Member { space, index: idx, member } => {
             let idx = idx.as_deref().map(index).unwrap_or_default();
             format!("{}{idx}.{}", space.name, member.name)
+        }
+        ast::ExprKind::BranchEnergy(ket) => {
+            let fields: Vec<&str> = ket.fields.iter().map(|(f, _)| f.as_str()).collect();
+            format!("E|{}>", fields.join(","))
         }
         ast::ExprKind::Sum { binders, body } => {
             let binders: Vec<String> =

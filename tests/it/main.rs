@@ -3,6 +3,7 @@
 
 mod support;
 
+mod answers;
 mod cli;
 mod derive;
 mod emit;
