@@ -129,6 +129,8 @@ pub enum LowerError {
     MissingV,
     /// `order` that is not a non-negative integer.
     BadOrder,
+    /// `order` beyond [`crate::model::MAX_ORDER`].
+    OrderTooLarge,
     /// A term that is not Hermitian; the message names the first offending pair of states.
     NotHermitian {
         /// The term's name, `H0` or `V2`.
@@ -215,6 +217,9 @@ impl fmt::Display for LowerError {
             LowerError::MissingH0 => write!(f, "the model has no H0"),
             LowerError::MissingV => write!(f, "the model has no perturbation V"),
             LowerError::BadOrder => write!(f, "the order must be a non-negative integer"),
+            LowerError::OrderTooLarge => {
+                write!(f, "the order must be at most {}", crate::model::MAX_ORDER)
+            }
             LowerError::NotHermitian { term, entry, value, mirror, mirror_conj } => write!(
                 f,
                 "{term} is not Hermitian: {entry} = {value} but conj({mirror}) = {mirror_conj}"

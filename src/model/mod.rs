@@ -16,6 +16,9 @@ pub type Operator = SparseMatrix<RatFunc>;
 /// The largest product space a model may declare.
 pub const MAX_DIMENSION: usize = 20_000;
 
+/// The largest order in lambda that a model may ask for and the engine accepts.
+pub const MAX_ORDER: u32 = 1000;
+
 /// A real symbol declared with `param`.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Param {

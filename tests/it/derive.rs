@@ -551,7 +551,7 @@ fn bad_orders_and_focus_exit_with_status_two() {
         (
             TWO_LEVELS,
             &["derive", "model.clv", "--order", "5000"],
-            "order 5000 is beyond what cleave computes (at most 1000)",
+            "--order 5000: the order must be at most 1000",
         ),
         (
             "param g\nspace s = spin(1/2)\nH0 = s.z\nV = g * s.x\nfocus 1\n",
