@@ -9,6 +9,7 @@ mod poly;
 mod radical;
 mod ratfunc;
 mod rational;
+pub mod factor;
 pub mod roots;
 pub mod univariate;
 
