@@ -378,11 +378,7 @@ fn to_big(a: &[u64]) -> Vec<BigInt> {
 
 /// One quadratic Hensel step (von zur Gathen & Gerhard, Algorithm 15.10): from `f = g h`,
 /// `s g + t h = 1` modulo `m` with `h` monic to the same modulo `m^2`.
-fn hensel_step(
-    f: &[BigInt],
-    [g, h, s, t]: [Vec<BigInt>; 4],
-    m2: &BigInt,
-) -> [Vec<BigInt>; 4] {
+fn hensel_step(f: &[BigInt], [g, h, s, t]: [Vec<BigInt>; 4], m2: &BigInt) -> [Vec<BigInt>; 4] {
     let e = big_sub(f, &big_mul(&g, &h, m2), m2);
     let (q, r) = big_divrem_monic(&big_mul(&s, &e, m2), &h, m2);
     let g_new = big_add(&g, &big_add(&big_mul(&t, &e, m2), &big_mul(&q, &g, m2), m2), m2);
@@ -602,13 +598,15 @@ mod tests {
     #[test]
     fn a_product_of_known_factors_is_recovered() {
         // (x^3 + x^2 - 2x - 1)(x^3 - x^2 - 2x + 1)(3x^2 - 7)(x + 5)/4, expanded exactly.
-        let parts = [poly(&[-1, -2, 1, 1]), poly(&[1, -2, -1, 1]), poly(&[-7, 0, 3]), poly(&[5, 1])];
+        let parts =
+            [poly(&[-1, -2, 1, 1]), poly(&[1, -2, -1, 1]), poly(&[-7, 0, 3]), poly(&[5, 1])];
         let product = parts
             .iter()
             .fold(UniPoly::one(), |acc, p| acc * p)
             .scale(&Rational::ratio(1, 4).expect("4 != 0"));
         let mut expected: Vec<UniPoly<Rational>> = parts.iter().map(UniPoly::monic).collect();
-        expected.sort_by(|a, b| a.degree().cmp(&b.degree()).then_with(|| a.coeffs().cmp(b.coeffs())));
+        expected
+            .sort_by(|a, b| a.degree().cmp(&b.degree()).then_with(|| a.coeffs().cmp(b.coeffs())));
         assert_eq!(irreducible_factors(&product).expect("factors"), expected);
     }
 
@@ -616,6 +614,9 @@ mod tests {
     fn a_factor_x_and_repeated_factors() {
         // x^2 (x^2 - 2)^3: square-free part x (x^2 - 2).
         let p = poly(&[0, 0, 1]) * poly(&[-2, 0, 1]) * poly(&[-2, 0, 1]) * poly(&[-2, 0, 1]);
-        assert_eq!(irreducible_factors(&p).expect("factors"), vec![poly(&[0, 1]), poly(&[-2, 0, 1])]);
+        assert_eq!(
+            irreducible_factors(&p).expect("factors"),
+            vec![poly(&[0, 1]), poly(&[-2, 0, 1])]
+        );
     }
 }

@@ -316,7 +316,8 @@ mod tests {
 
     /// Factors sorted by degree, then coefficients.
     fn sorted(mut factors: Vec<UniPoly<Rational>>) -> Vec<UniPoly<Rational>> {
-        factors.sort_by(|a, b| a.degree().cmp(&b.degree()).then_with(|| a.coeffs().cmp(b.coeffs())));
+        factors
+            .sort_by(|a, b| a.degree().cmp(&b.degree()).then_with(|| a.coeffs().cmp(b.coeffs())));
         factors
     }
 

@@ -6,7 +6,7 @@ use num_bigint::BigInt;
 
 use super::{LowerError, MAX_EXPONENT};
 use crate::diagnostics::{At, Diagnostic, Span};
-use crate::exact::{Field, ParamId, Radical, RatFunc, Rational};
+use crate::exact::{Field, ParamId, Radical, RatFunc, Rational, ValueSize, MAX_PRODUCT_WORK};
 use crate::model::{self, Basis, Space, SpaceKind, SpinOp};
 use crate::syntax::ast;
 
@@ -87,7 +87,9 @@ impl Scope {
                 Value::Scalar(s) => Value::Scalar(-s),
                 Value::Operator(o) => Value::Operator(o.scale(&-RatFunc::one())),
             }),
-            ast::ExprKind::Binary { op, lhs, rhs } => self.eval_binary(*op, lhs, rhs),
+            ast::ExprKind::Binary { op, lhs, rhs } => {
+                self.eval_binary(*op, lhs, rhs).and_then(|v| within_size_limits(v, expr.span))
+            }
         }
     }
 
@@ -279,6 +281,25 @@ impl Scope {
             return self.eval_power(left, rhs, lhs.span.to(rhs.span));
         }
         let right = self.eval(rhs)?;
+        if op == ast::BinaryOp::Mul {
+            // A product is bounded before it is computed: squaring a large value again and
+            // again (`let x2 = x1 * x1`) would otherwise spend the time before the check.
+            let (a, b, n_products, n_entries) = match (&left, &right) {
+                (Value::Operator(a), Value::Operator(b)) => {
+                    (operator_size(a), operator_size(b), a.n_cols() as u64, a.nnz() as u64)
+                }
+                (Value::Scalar(a), Value::Scalar(b)) => (Ok(a.size()), Ok(b.size()), 1, 1),
+                (Value::Scalar(s), Value::Operator(o)) | (Value::Operator(o), Value::Scalar(s)) => {
+                    (Ok(s.size()), operator_size(o), 1, o.nnz() as u64)
+                }
+            };
+            let (a, b) = (a.unwrap_or_else(|s| s), b.unwrap_or_else(|s| s));
+            let bound = a.product_bound(&b, n_products);
+            let work = a.product_work(&b, n_entries);
+            if !bound.is_allowed() || work > MAX_PRODUCT_WORK {
+                return Err(LowerError::ValueTooLarge { size: bound }).at(lhs.span.to(rhs.span));
+            }
+        }
         let minus_one = -RatFunc::one();
         Ok(match (op, left, right) {
             (ast::BinaryOp::Add, Value::Scalar(a), Value::Scalar(b)) => Value::Scalar(a + b),
@@ -353,10 +374,17 @@ impl Scope {
         match base {
             Value::Scalar(s) => {
                 let exponent = i32::try_from(n).expect("bounded by MAX_EXPONENT");
+                let bound = s.pow_size_bound(n);
+                if !bound.is_allowed() {
+                    return Err(LowerError::ValueTooLarge { size: bound }).at(span);
+                }
                 let power = s.pow(exponent).ok_or(LowerError::DivisionByZero).at(span)?;
                 Ok(Value::Scalar(power))
             }
-            Value::Operator(o) => Ok(Value::Operator(operator_power(&o, n as u64))),
+            Value::Operator(o) => operator_power(&o, n as u64)
+                .map(Value::Operator)
+                .map_err(|size| LowerError::ValueTooLarge { size })
+                .at(span),
         }
     }
 
@@ -431,20 +459,60 @@ impl Scope {
 }
 
 /// `A^n` by repeated squaring.
-fn operator_power(operator: &model::Operator, mut n: u64) -> model::Operator {
+/// `operator^n` by repeated squaring; stops with the size reached when an entry outgrows the
+/// limits of [`crate::exact::ValueSize`].
+fn operator_power(operator: &model::Operator, mut n: u64) -> Result<model::Operator, ValueSize> {
     let mut acc = model::Operator::identity(operator.n_rows());
     let mut square = operator.clone();
+    let dim = operator.n_rows() as u64;
+    let checked_mul = |a: &model::Operator, b: &model::Operator| {
+        let (size_a, size_b) = (operator_size(a)?, operator_size(b)?);
+        let bound = size_a.product_bound(&size_b, dim);
+        if !bound.is_allowed() || size_a.product_work(&size_b, a.nnz() as u64) > MAX_PRODUCT_WORK {
+            return Err(bound);
+        }
+        let res = a.mul(b);
+        operator_size(&res)?;
+        Ok(res)
+    };
     while n > 0 {
         if n & 1 == 1 {
-            acc = acc.mul(&square);
+            acc = checked_mul(&acc, &square)?;
         }
         n >>= 1;
         if n > 0 {
-            square = square.mul(&square);
+            square = checked_mul(&square, &square)?;
         }
     }
-    acc
+    Ok(acc)
 }
+
+/// The largest size of an entry; `Err` with it when beyond the limits.
+fn operator_size(operator: &model::Operator) -> Result<ValueSize, ValueSize> {
+    let size =
+        operator.triplets().map(|(_, _, x)| x.size()).fold(ValueSize::default(), ValueSize::max);
+    if size.is_allowed() {
+        Ok(size)
+    } else {
+        Err(size)
+    }
+}
+
+/// The value unchanged when its scalar (or every operator entry) is within the size limits.
+fn within_size_limits(value: Value, span: Span) -> Result<Value, Diagnostic> {
+    let size = match &value {
+        Value::Scalar(s) => s.size(),
+        Value::Operator(o) => operator_size(o).unwrap_or_else(|size| size),
+    };
+    if size.is_allowed() {
+        Ok(value)
+    } else {
+        Err(LowerError::ValueTooLarge { size }).at(span)
+    }
+}
+
+/// The most characters a number literal may have (about [`crate::exact::MAX_VALUE_BITS`]).
+const MAX_LITERAL_DIGITS: usize = 1000;
 
 /// The largest decimal exponent a literal may carry (`1e1000`).
 const MAX_DECIMAL_EXPONENT: i64 = 1000;
@@ -459,7 +527,7 @@ pub(super) fn parse_number(text: &str) -> Result<Rational, LowerError> {
         }
         None => (text, 0),
     };
-    if exponent.abs() > MAX_DECIMAL_EXPONENT {
+    if exponent.abs() > MAX_DECIMAL_EXPONENT || text.len() > MAX_LITERAL_DIGITS {
         return Err(LowerError::NumberTooLarge);
     }
     let (whole, fraction) = mantissa.split_once('.').unwrap_or((mantissa, ""));
