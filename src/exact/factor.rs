@@ -101,7 +101,7 @@ fn best_prime(f: &[BigInt]) -> Option<(u64, Vec<Vec<u64>>)> {
             continue; // Not square-free modulo the prime.
         }
         let factors = factor_mod(&fp, prime);
-        if best.as_ref().is_none_or(|(_, b)| factors.len() < b.len()) {
+        if best.as_ref().map_or(true, |(_, b)| factors.len() < b.len()) {
             best = Some((prime, factors));
         }
         tried += 1;
@@ -550,7 +550,7 @@ mod tests {
         UniPoly::new(coeffs.iter().map(|&c| Rational::from_i64(c)).collect())
     }
 
-    /// The n-th cyclotomic polynomial, from x^n - 1 = prod_{d | n} Phi_d(x) (a standard identity,
+    /// The n-th cyclotomic polynomial, from `x^n - 1 = prod_{d | n} Phi_d(x)` (a standard identity,
     /// e.g. Lang, Algebra, 2002, ch. VI §3) by exact division.
     fn cyclotomic(n: usize) -> UniPoly<Rational> {
         let mut coeffs = vec![Rational::zero(); n + 1];

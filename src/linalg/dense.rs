@@ -342,7 +342,7 @@ impl<F: Field> DenseMatrix<F> {
         let mut power = Rational::one();
         for c in &scaled {
             res.push(Rational::from_bigint(c.clone()) * power.inv().expect("D > 0"));
-            power = power * &denom;
+            power *= &denom;
         }
         res.reverse();
         Some(res)
