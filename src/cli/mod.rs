@@ -118,7 +118,8 @@ where
     match execute(cli.command) {
         Ok(()) => Outcome::Success,
         Err(failure) => {
-            eprint!("{}", failure.message);
+            // Nothing is left to report a failure to stderr with, so its own failure is ignored.
+            let _ = std::io::stderr().write_all(failure.message.as_bytes());
             failure.outcome
         }
     }
@@ -213,58 +214,73 @@ fn execute(command: Command) -> Result<(), Failure> {
 }
 
 fn levels(args: LevelsArgs) -> Result<(), Failure> {
+    let mut plan = OutputPlan::default();
+    if let Some(path) = &args.json {
+        plan.add("json", path, &args.model)?;
+    }
     let loaded = load(&args.model)?;
     let spectrum = spectrum::unperturbed_levels(&loaded.model)
         .map_err(|err| Failure::infeasible(format!("{}: {err}", loaded.name)))?;
-    let mut outputs = Outputs::default();
-    if let Some(path) = &args.json {
-        outputs.push(path, emit::levels_json(&loaded.model, &spectrum));
-    }
+    let mut outputs = Outputs::new(plan);
+    outputs.set("json", || emit::levels_json(&loaded.model, &spectrum));
     outputs
         .report_unless_stdout_taken(|| emit::levels_report(&loaded.model, &spectrum, &loaded.name));
     outputs.write()
 }
 
 fn derive(args: DeriveArgs) -> Result<(), Failure> {
+    let mut plan = OutputPlan::default();
+    for (option, path) in [("json", &args.json), ("latex", &args.latex), ("rust", &args.rust)] {
+        if let Some(path) = path {
+            plan.add(option, path, &args.model)?;
+        }
+    }
+    check_order_flag(args.order)?;
     let loaded = load(&args.model)?;
     let at = parse_at(&args.at, &loaded.model)?;
-    let options = DeriveOptions { order: order(args.order, &loaded.model), states: args.states };
+    let options = DeriveOptions { order: order(args.order, &loaded)?, states: args.states };
     let derivation = engine::derive(&loaded.model, &options)
         .map_err(|err| loaded.engine_failure(err, args.order.is_some()))?;
     let model = &loaded.model;
-    let mut outputs = Outputs::default();
-    if let Some(path) = &args.json {
-        outputs.push(path, emit::json(model, &derivation));
-    }
-    if let Some(path) = &args.latex {
+    let mut outputs = Outputs::new(plan);
+    outputs.set("json", || emit::json(model, &derivation));
+    outputs.set("latex", || {
         let latex_options = LatexOptions { standalone: args.standalone, at: at.clone() };
-        outputs.push(path, emit::latex(model, &derivation, &loaded.name, &latex_options));
-    }
-    if let Some(path) = &args.rust {
-        outputs.push(path, emit::rust(model, &derivation, &loaded.name));
-    }
+        emit::latex(model, &derivation, &loaded.name, &latex_options)
+    });
+    outputs.set("rust", || emit::rust(model, &derivation, &loaded.name));
     outputs.report_unless_stdout_taken(|| emit::report(model, &derivation, &loaded.name, &at));
     outputs.write()
 }
 
 fn check_command(args: CheckArgs) -> Result<(), Failure> {
+    let mut plan = OutputPlan::default();
+    if let Some(path) = &args.plot {
+        plan.add("plot", path, &args.model)?;
+    }
+    check_order_flag(args.order)?;
     let loaded = load(&args.model)?;
     let at = parse_at(&args.at, &loaded.model)?;
     // The series is derived two orders further than tested: those coefficients predict the
     // error of the order-N series, which makes the numeric test sharp.
-    let tested = order(args.order, &loaded.model);
-    let extra = if tested + 2 <= engine::MAX_ORDER { 2 } else { 0 };
+    let tested = order(args.order, &loaded)?;
+    let extra = if tested.saturating_add(2) <= engine::MAX_ORDER { 2 } else { 0 };
     let options = DeriveOptions::new(tested + extra);
     let derivation = engine::derive(&loaded.model, &options)
         .map_err(|err| loaded.engine_failure(err, args.order.is_some()))?;
     let check_options = CheckOptions { at, order: Some(tested) };
     let verification = check::verify(&loaded.model, &derivation, &check_options);
-    let mut outputs = Outputs::default();
-    if let Some(path) = &args.plot {
-        outputs.push(path, emit::check_plot(&verification));
+    let table = emit::check_report(&derivation, &verification, &loaded.name);
+    // With `--plot -` the plot takes stdout, so the table goes to stderr, where the verdict
+    // below still follows it.
+    let table_on_stderr = plan.claims_stdout();
+    let mut outputs = Outputs::new(plan);
+    outputs.set("plot", || emit::check_plot(&verification));
+    if table_on_stderr {
+        let _ = std::io::stderr().write_all(table.as_bytes());
+    } else {
+        outputs.report_unless_stdout_taken(|| table);
     }
-    let text = emit::check_report(&derivation, &verification, &loaded.name);
-    outputs.report_unless_stdout_taken(|| text);
     outputs.write()?;
     // A branch whose error does not fall like lambda^(N+1) is a result the user must not trust:
     // the table says which, and the exit status lets scripts stop.
@@ -278,9 +294,36 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
     Ok(())
 }
 
-/// `--order`, else the model's `order`, else [`DEFAULT_ORDER`].
-fn order(flag: Option<u32>, model: &Model) -> u32 {
-    flag.or(model.order()).unwrap_or(DEFAULT_ORDER)
+/// Refuses `--order N` outside 1..=[`engine::MAX_ORDER`] before the model is even read.
+fn check_order_flag(flag: Option<u32>) -> Result<(), Failure> {
+    match flag {
+        Some(0) => Err(Failure::bad_input("--order 0: the order must be at least 1")),
+        Some(n) if n > engine::MAX_ORDER => Err(Failure::bad_input(format!(
+            "--order {n}: the order must be at most {}",
+            engine::MAX_ORDER
+        ))),
+        _ => Ok(()),
+    }
+}
+
+/// `--order`, else the model's `order`, else [`DEFAULT_ORDER`]; a model's order outside
+/// 1..=[`engine::MAX_ORDER`] is refused at its statement.
+fn order(flag: Option<u32>, loaded: &Loaded) -> Result<u32, Failure> {
+    if let Some(n) = flag {
+        return Ok(n);
+    }
+    match (loaded.model.order(), loaded.source_map.order) {
+        (Some(n), Some(span)) if n == 0 || n > engine::MAX_ORDER => {
+            let why = if n == 0 {
+                "the order must be at least 1".to_string()
+            } else {
+                format!("the order must be at most {}", engine::MAX_ORDER)
+            };
+            Err(loaded.located(&Diagnostic::new(why, span)))
+        }
+        (Some(n), _) => Ok(n),
+        (None, _) => Ok(DEFAULT_ORDER),
+    }
 }
 
 /// Parses `--at NAME=VALUE` items against the model's parameters. Values are exact rationals
@@ -319,43 +362,213 @@ fn parse_at(items: &[String], model: &Model) -> Result<ParamValues, Failure> {
     Ok(res)
 }
 
-/// The outputs of one run; written only after every one has been produced, so a failure leaves
-/// no half-written set.
+/// Where one output goes: stdout (`-`) or a file.
+#[derive(Clone, Debug, PartialEq, Eq)]
+enum Target {
+    Stdout,
+    /// A file, with the option that named it (for messages) and its resolved identity (the
+    /// canonical parent directory joined with the file name), which detects two options naming
+    /// one file by different spellings.
+    File {
+        path: PathBuf,
+        identity: PathBuf,
+    },
+    /// An existing file that is not a regular file (`/dev/stdout`, a named pipe): written in
+    /// place, since renaming over it would replace the device.
+    Special {
+        path: PathBuf,
+        identity: PathBuf,
+    },
+}
+
+/// The outputs asked for, validated before anything is computed: no two outputs name one file,
+/// none names the model, at most one claims stdout, and every file's directory exists.
 #[derive(Default)]
+struct OutputPlan {
+    targets: Vec<(&'static str, Target)>,
+}
+
+impl OutputPlan {
+    /// Validates `--OPTION PATH` and adds it to the plan.
+    fn add(&mut self, option: &'static str, path: &Path, model: &Path) -> Result<(), Failure> {
+        let target = if is_stdout(path) {
+            if let Some((other, _)) = self.targets.iter().find(|(_, t)| *t == Target::Stdout) {
+                return Err(Failure::bad_input(format!(
+                    "--{option} -: stdout is already taken by --{other} -; only one output can go \
+                     to stdout, write the other to a file"
+                )));
+            }
+            Target::Stdout
+        } else {
+            let identity = file_identity(option, path)?;
+            if file_identity("", model).is_ok_and(|m| m == identity) {
+                return Err(Failure::bad_input(format!(
+                    "--{option} {}: that is the model file; choose another path",
+                    path.display()
+                )));
+            }
+            for (other, target) in &self.targets {
+                let seen = match target {
+                    Target::File { identity, .. } | Target::Special { identity, .. } => identity,
+                    Target::Stdout => continue,
+                };
+                if *seen == identity {
+                    return Err(Failure::bad_input(format!(
+                        "--{option} {}: --{other} writes the same file; give each output its own \
+                         path",
+                        path.display()
+                    )));
+                }
+            }
+            let special = std::fs::metadata(&identity).is_ok_and(|m| !m.is_file());
+            if special {
+                Target::Special { path: path.to_path_buf(), identity }
+            } else {
+                Target::File { path: path.to_path_buf(), identity }
+            }
+        };
+        self.targets.push((option, target));
+        Ok(())
+    }
+    fn claims_stdout(&self) -> bool {
+        self.targets.iter().any(|(_, t)| *t == Target::Stdout)
+    }
+}
+
+/// The canonical parent directory of `path` joined with its file name; fails when the path
+/// names no file or its directory does not exist.
+fn file_identity(option: &str, path: &Path) -> Result<PathBuf, Failure> {
+    let shown = if option.is_empty() {
+        path.display().to_string()
+    } else {
+        format!("--{option} {}", path.display())
+    };
+    let Some(file_name) = path.file_name() else {
+        return Err(Failure::bad_input(format!("{shown}: not a file name")));
+    };
+    let parent = match path.parent() {
+        Some(parent) if !parent.as_os_str().is_empty() => parent,
+        _ => Path::new("."),
+    };
+    let dir = parent.canonicalize().map_err(|err| {
+        Failure::bad_input(format!(
+            "{shown}: the directory {} is unusable: {err}",
+            parent.display()
+        ))
+    })?;
+    if !dir.is_dir() {
+        return Err(Failure::bad_input(format!(
+            "{shown}: {} is not a directory",
+            parent.display()
+        )));
+    }
+    let res = dir.join(file_name);
+    if res.is_dir() {
+        return Err(Failure::bad_input(format!("{shown}: that is a directory")));
+    }
+    Ok(res)
+}
+
+/// The outputs of one run, each produced in full before anything is written.
 struct Outputs {
-    files: Vec<(PathBuf, String)>,
+    plan: OutputPlan,
+    texts: Vec<(Target, String)>,
 }
 
 impl Outputs {
-    fn push(&mut self, path: &Path, text: String) {
-        self.files.push((path.to_path_buf(), text));
+    fn new(plan: OutputPlan) -> Outputs {
+        Outputs { plan, texts: Vec::new() }
     }
-    fn claims_stdout(&self) -> bool {
-        self.files.iter().any(|(path, _)| is_stdout(path))
+    /// The text of the output that `option` named in the plan; nothing if it was not asked for.
+    fn set(&mut self, option: &str, text: impl FnOnce() -> String) {
+        if let Some((_, target)) = self.plan.targets.iter().find(|(o, _)| *o == option) {
+            self.texts.push((target.clone(), text()));
+        }
     }
     /// The readable report goes to stdout when no other output claims it.
     fn report_unless_stdout_taken(&mut self, report: impl FnOnce() -> String) {
-        if !self.claims_stdout() {
-            self.files.push((PathBuf::from("-"), report()));
+        if !self.plan.claims_stdout() {
+            self.texts.push((Target::Stdout, report()));
         }
     }
+    /// Writes every output all-or-nothing: each file first goes to a temporary file beside it,
+    /// then stdout and special files are written, and only when all of that succeeded are the
+    /// temporary files renamed over their targets. A failure removes the temporary files and
+    /// leaves every previous file as it was.
     fn write(self) -> Result<(), Failure> {
-        if self.files.iter().filter(|(path, _)| is_stdout(path)).count() > 1 {
-            return Err(Failure::bad_input("only one output can go to stdout (`-`)"));
+        let mut staged: Vec<(PathBuf, PathBuf)> = Vec::new();
+        let discard = |staged: &[(PathBuf, PathBuf)]| {
+            for (temp, _) in staged {
+                let _ = std::fs::remove_file(temp);
+            }
+        };
+        for (target, text) in &self.texts {
+            let Target::File { path, identity } = target else { continue };
+            let temp = temp_path(identity);
+            if let Err(err) = write_synced(&temp, text) {
+                let _ = std::fs::remove_file(&temp);
+                discard(&staged);
+                return Err(Failure::infeasible(format!(
+                    "cannot write {}: {err}; no output was changed",
+                    path.display()
+                )));
+            }
+            staged.push((temp, path.clone()));
         }
-        for (path, text) in &self.files {
-            if is_stdout(path) {
-                let mut stdout = std::io::stdout().lock();
-                // A closed pipe (`cleave derive m.clv | head`) is not an error of ours.
-                let _ = stdout.write_all(text.as_bytes()).and_then(|()| stdout.flush());
-            } else {
-                std::fs::write(path, text).map_err(|err| {
-                    Failure::bad_input(format!("cannot write {}: {err}", path.display()))
-                })?;
+        for (target, text) in &self.texts {
+            let (shown, result) = match target {
+                Target::File { .. } => continue,
+                Target::Stdout => {
+                    let mut stdout = std::io::stdout().lock();
+                    (
+                        "stdout".to_string(),
+                        stdout.write_all(text.as_bytes()).and_then(|()| stdout.flush()),
+                    )
+                }
+                Target::Special { path, identity } => (
+                    path.display().to_string(),
+                    std::fs::OpenOptions::new()
+                        .write(true)
+                        .open(identity)
+                        .and_then(|mut file| file.write_all(text.as_bytes())),
+                ),
+            };
+            match result {
+                // A closed pipe (`cleave derive m.clv | head`) is the reader's choice.
+                Err(err) if err.kind() != std::io::ErrorKind::BrokenPipe => {
+                    discard(&staged);
+                    return Err(Failure::infeasible(format!(
+                        "cannot write to {shown}: {err}; no output file was changed"
+                    )));
+                }
+                _ => {}
+            }
+        }
+        for (idx, (temp, path)) in staged.iter().enumerate() {
+            if let Err(err) = std::fs::rename(temp, path) {
+                discard(&staged[idx..]);
+                return Err(Failure::infeasible(format!(
+                    "cannot replace {}: {err}",
+                    path.display()
+                )));
             }
         }
         Ok(())
     }
+}
+
+/// A temporary name beside `identity` (same directory, so the rename is atomic), hidden and
+/// marked with the process id.
+fn temp_path(identity: &Path) -> PathBuf {
+    let name = identity.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+    identity.with_file_name(format!(".{name}.{}.cleave-tmp", std::process::id()))
+}
+
+/// Writes `text` to a new file at `path` and waits until it is on disk.
+fn write_synced(path: &Path, text: &str) -> std::io::Result<()> {
+    let mut file = std::fs::File::create(path)?;
+    file.write_all(text.as_bytes())?;
+    file.sync_all()
 }
 
 fn is_stdout(path: &Path) -> bool {

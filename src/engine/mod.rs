@@ -39,8 +39,7 @@ use algebraic::Context;
 use bloch::Problem;
 use split::{branches, lift, FieldTooSmall, RawBranch, RawSecular, Stage};
 
-/// The largest order the engine accepts.
-pub const MAX_ORDER: u32 = 1000;
+pub use crate::model::MAX_ORDER;
 
 /// Options of one derivation.
 #[derive(Clone, Debug)]

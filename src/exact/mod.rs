@@ -6,11 +6,13 @@
 
 mod algebraic;
 pub mod angular;
+pub mod factor;
 mod poly;
 mod radical;
 mod ratfunc;
 mod rational;
 pub mod roots;
+mod size;
 pub mod univariate;
 
 use std::fmt::Debug;
@@ -21,6 +23,7 @@ pub use poly::{Monomial, Poly};
 pub use radical::{split_square, take_radicand_overflow, Radical};
 pub use ratfunc::RatFunc;
 pub use rational::Rational;
+pub use size::{ValueSize, MAX_PRODUCT_WORK, MAX_VALUE_BITS, MAX_VALUE_TERMS};
 
 /// Index of a real parameter (`param g`) in the model's parameter list.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]

@@ -87,19 +87,22 @@ pub fn refine(
     (lo, hi)
 }
 
-/// The monic irreducible factors over the rationals of a square-free rational polynomial whose
-/// roots are all real (a Hermitian secular polynomial), in the order found; `None` when the roots
-/// are not all real and simple.
-///
-/// After the substitution `x = y / L` that makes the polynomial monic with integer coefficients,
-/// every monic rational factor has integer coefficients (Gauss's lemma). Each such factor is the
-/// product of `x - r` over some subset of the roots, so the roots are isolated and narrowed, the
-/// elementary symmetric functions of each subset are bracketed by rational intervals, and a subset
-/// whose brackets each hold one integer gives a candidate that exact division confirms or rejects
-/// (the method of, e.g., Cohen, A Course in Computational Algebraic Number Theory, 1993, §3.5,
-/// with real roots in place of p-adic ones). Meant for the small degrees of secular problems: the
-/// number of subsets grows like `2^n`.
+/// The monic irreducible factors over the rationals of a square-free rational polynomial, sorted
+/// by degree (see [`super::factor::irreducible_factors`]); `None` when the factorization gave up
+/// within its budget.
 pub fn rational_factors(p: &UniPoly<Rational>) -> Option<Vec<UniPoly<Rational>>> {
+    super::factor::irreducible_factors(p)
+}
+
+/// The slow reference for [`rational_factors`], kept for tests: for a polynomial whose roots are
+/// all real and simple, every monic integer factor (after the substitution `x = y / L` that makes
+/// it monic with integer coefficients, by Gauss's lemma) is the product of `x - r` over a subset
+/// of the roots, so the roots are isolated and narrowed, the elementary symmetric functions of
+/// each subset are bracketed by rational intervals, and a subset whose brackets each hold one
+/// integer gives a candidate that exact division confirms or rejects. The number of subsets grows
+/// like `2^n`.
+#[cfg(test)]
+pub(crate) fn real_root_factors(p: &UniPoly<Rational>) -> Option<Vec<UniPoly<Rational>>> {
     let p = p.monic();
     let n = p.degree()?;
     if n <= 1 {
@@ -164,12 +167,14 @@ pub fn rational_factors(p: &UniPoly<Rational>) -> Option<Vec<UniPoly<Rational>>>
     }
 }
 
+#[cfg(test)]
 enum Search {
     Found(Vec<usize>, UniPoly<Rational>),
     None,
     Ambiguous,
 }
 
+#[cfg(test)]
 /// A monic integer factor of `q` of the given degree whose roots are a subset of `remaining`.
 fn find_factor(
     q: &UniPoly<Rational>,
@@ -228,6 +233,7 @@ fn find_factor(
     }
 }
 
+#[cfg(test)]
 /// The next `k`-subset of `0..n` in lexicographic order; false after the last.
 fn next_subset(subset: &mut [usize], n: usize) -> bool {
     let k = subset.len();
@@ -243,10 +249,12 @@ fn next_subset(subset: &mut [usize], n: usize) -> bool {
     false
 }
 
+#[cfg(test)]
 fn floor(x: &Rational) -> num_bigint::BigInt {
     num_integer::Integer::div_floor(x.numer(), x.denom())
 }
 
+#[cfg(test)]
 fn ceil(x: &Rational) -> num_bigint::BigInt {
     -num_integer::Integer::div_floor(&-x.numer(), x.denom())
 }
@@ -303,6 +311,43 @@ mod tests {
         let expected = [-1.8793852415718, 0.3472963553339, 1.5320888862380];
         for (m, e) in mids.iter().zip(expected) {
             assert!((m - e).abs() < 1e-5, "{m} vs {e}");
+        }
+    }
+
+    /// Factors sorted by degree, then coefficients.
+    fn sorted(mut factors: Vec<UniPoly<Rational>>) -> Vec<UniPoly<Rational>> {
+        factors
+            .sort_by(|a, b| a.degree().cmp(&b.degree()).then_with(|| a.coeffs().cmp(b.coeffs())));
+        factors
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig { cases: 64, ..Default::default() })]
+
+        /// The modular factorization agrees with the slow real-root search on products of
+        /// random real-rooted quadratics `x^2 + k x - m` (`m > 0`), linear factors, and sometimes
+        /// the irreducible cubic `x^3 - 3x + 1` with three real roots.
+        #[test]
+        fn modular_factors_agree_with_the_real_root_search(
+            quadratics in proptest::collection::vec((-4i64..5, 1i64..7), 0..3),
+            linears in proptest::collection::vec(-5i64..6, 0..3),
+            cubic in proptest::bool::ANY,
+        ) {
+            let mut cp = UniPoly::new(vec![q(1)]);
+            for (k, m) in &quadratics {
+                cp = cp * UniPoly::new(vec![q(-m), q(*k), q(1)]);
+            }
+            for a in &linears {
+                cp = cp * UniPoly::new(vec![q(-a), q(1)]);
+            }
+            if cubic {
+                cp = cp * UniPoly::new(vec![q(1), q(-3), q(0), q(1)]);
+            }
+            let p = cp.square_free_part();
+            proptest::prop_assume!(p.degree() >= Some(1));
+            let slow = real_root_factors(&p).expect("real simple roots");
+            let fast = rational_factors(&p).expect("within budget");
+            proptest::prop_assert_eq!(sorted(fast), sorted(slow));
         }
     }
 }

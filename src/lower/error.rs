@@ -129,7 +129,13 @@ pub enum LowerError {
     MissingV,
     /// `order` that is not a non-negative integer.
     BadOrder,
-    /// `order` beyond what the engine computes.
+    /// A value whose coefficients or terms outgrow [`crate::exact::MAX_VALUE_BITS`] or
+    /// [`crate::exact::MAX_VALUE_TERMS`], e.g. `(7^1000)^1000`.
+    ValueTooLarge {
+        /// The size reached (or bounded before computing).
+        size: crate::exact::ValueSize,
+    },
+    /// `order` beyond [`crate::model::MAX_ORDER`].
     OrderTooLarge,
     /// A term that is not Hermitian; the message names the first offending pair of states.
     NotHermitian {
@@ -290,7 +296,10 @@ impl fmt::Display for LowerError {
             LowerError::TooManyStates => {
                 write!(f, "the product space has more than {MAX_DIMENSION} states")
             }
-            LowerError::NumberTooLarge => write!(f, "number too large"),
+            LowerError::NumberTooLarge => write!(
+                f,
+                "number too large (at most 1000 characters and a decimal exponent of at most 1000)"
+            ),
             LowerError::Expected { what } => write!(f, "{what}"),
             LowerError::SqrtNotRational => write!(f, "`sqrt` needs a rational number"),
             LowerError::NegativeSqrt => write!(f, "square root of a negative number"),
@@ -324,11 +333,19 @@ impl fmt::Display for LowerError {
             LowerError::MissingH0 => write!(f, "the model has no H0"),
             LowerError::MissingV => write!(f, "the model has no perturbation V"),
             LowerError::BadOrder => write!(f, "the order must be a non-negative integer"),
-            LowerError::OrderTooLarge => write!(
+            LowerError::ValueTooLarge { size } => write!(
                 f,
-                "the order is larger than cleave computes (at most {})",
-                crate::engine::MAX_ORDER
+                "this value is too large ({} bits in a coefficient, {} terms; cleave allows {} \
+                 bits and {} terms): use smaller numbers or powers, or fewer parameters in one \
+                 factor",
+                size.bits,
+                size.terms,
+                crate::exact::MAX_VALUE_BITS,
+                crate::exact::MAX_VALUE_TERMS
             ),
+            LowerError::OrderTooLarge => {
+                write!(f, "the order must be at most {}", crate::model::MAX_ORDER)
+            }
             LowerError::NotHermitian { term, entry, value, mirror, mirror_conj } => write!(
                 f,
                 "{term} is not Hermitian: {entry} = {value} but conj({mirror}) = {mirror_conj}"

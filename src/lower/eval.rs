@@ -9,7 +9,7 @@ use num_bigint::BigInt;
 use super::{LowerError, MAX_EXPONENT, MAX_OPERATOR_COST};
 use crate::diagnostics::{At, Diagnostic, Span};
 use crate::exact::angular::{clebsch_gordan, wigner_3j};
-use crate::exact::{Field, ParamId, Radical, RatFunc, Rational};
+use crate::exact::{Field, ParamId, Radical, RatFunc, Rational, ValueSize, MAX_PRODUCT_WORK};
 use crate::model::space::{IndexSet, IndexValue};
 use crate::model::{self, OperatorExpr, Space};
 use crate::syntax::ast;
@@ -132,7 +132,9 @@ impl Scope {
                 Value::Label(_) => return Err(LowerError::BadIndex).at(operand.span),
                 value => negate(value),
             },
-            ast::ExprKind::Binary { op, lhs, rhs } => self.eval_binary(*op, lhs, rhs)?,
+            ast::ExprKind::Binary { op, lhs, rhs } => {
+                within_size_limits(self.eval_binary(*op, lhs, rhs)?, expr.span)?
+            }
         };
         if let Value::Operator(operator) = &value {
             if operator.cost() > MAX_OPERATOR_COST {
@@ -556,6 +558,19 @@ impl Scope {
                 return Err(LowerError::BadIndex).at(expr.span);
             }
         }
+        if op == ast::BinaryOp::Mul {
+            // A product is bounded before it is computed: squaring a large value again and
+            // again (`let x2 = x1 * x1`) would otherwise spend the time before the check.
+            let n_products = match (&left, &right) {
+                (Value::Operator(a), Value::Operator(_)) => a.max_local_dimension() as u64,
+                _ => 1,
+            };
+            let (a, b) = (value_size(&left), value_size(&right));
+            let bound = a.product_bound(&b, n_products);
+            if !bound.is_allowed() || a.product_work(&b, n_products) > MAX_PRODUCT_WORK {
+                return Err(LowerError::ValueTooLarge { size: bound }).at(lhs.span.to(rhs.span));
+            }
+        }
         Ok(match (op, left, right) {
             (ast::BinaryOp::Add, a, b) => add_values(a, b).at(lhs.span.to(rhs.span))?,
             (ast::BinaryOp::Sub, a, b) => add_values(a, negate(b)).at(lhs.span.to(rhs.span))?,
@@ -643,10 +658,26 @@ impl Scope {
         match base {
             Value::Scalar(s) => {
                 let exponent = i32::try_from(n).expect("bounded by MAX_EXPONENT");
+                let bound = s.pow_size_bound(n);
+                if !bound.is_allowed() {
+                    return Err(LowerError::ValueTooLarge { size: bound }).at(span);
+                }
                 let power = s.pow(exponent).ok_or(LowerError::DivisionByZero).at(span)?;
                 Ok(Value::Scalar(power))
             }
-            Value::Operator(o) => Ok(Value::Operator(o.pow(n as u64))),
+            Value::Operator(o) => {
+                // Bound the coefficients of the power before forming it.
+                let size = o.entry_size();
+                let dim = o.max_local_dimension() as u64;
+                let mut bound = size;
+                for _ in 1..n {
+                    bound = bound.product_bound(&size, dim);
+                    if !bound.is_allowed() {
+                        return Err(LowerError::ValueTooLarge { size: bound }).at(span);
+                    }
+                }
+                Ok(Value::Operator(o.pow(n as u64)))
+            }
             _ => unreachable!("refused above"),
         }
     }
@@ -760,6 +791,33 @@ fn add_values(a: Value, b: Value) -> Result<Value, LowerError> {
     })
 }
 
+/// The value unchanged when its scalar (or every coefficient of an operator) is within the size
+/// limits.
+fn within_size_limits(value: Value, span: Span) -> Result<Value, Diagnostic> {
+    let size = match &value {
+        Value::Scalar(s) => s.size(),
+        Value::Operator(o) => o.entry_size(),
+        Value::Label(_) | Value::Energies(_) => return Ok(value),
+    };
+    if size.is_allowed() {
+        Ok(value)
+    } else {
+        Err(LowerError::ValueTooLarge { size }).at(span)
+    }
+}
+
+/// The size of a scalar or of an operator's largest coefficient.
+fn value_size(value: &Value) -> ValueSize {
+    match value {
+        Value::Scalar(s) => s.size(),
+        Value::Operator(o) => o.entry_size(),
+        Value::Label(_) | Value::Energies(_) => ValueSize::default(),
+    }
+}
+
+/// The most characters a number literal may have (about [`crate::exact::MAX_VALUE_BITS`]).
+const MAX_LITERAL_DIGITS: usize = 1000;
+
 /// The largest decimal exponent a literal may carry (`1e1000`).
 const MAX_DECIMAL_EXPONENT: i64 = 1000;
 
@@ -773,7 +831,7 @@ pub(super) fn parse_number(text: &str) -> Result<Rational, LowerError> {
         }
         None => (text, 0),
     };
-    if exponent.abs() > MAX_DECIMAL_EXPONENT {
+    if exponent.abs() > MAX_DECIMAL_EXPONENT || text.len() > MAX_LITERAL_DIGITS {
         return Err(LowerError::NumberTooLarge);
     }
     let (whole, fraction) = mantissa.split_once('.').unwrap_or((mantissa, ""));

@@ -139,17 +139,16 @@ pub fn lower(file: &ast::File) -> Result<(Model, SourceMap), Diagnostic> {
             }
             ast::Statement::Order(decl) => {
                 let value = scope.eval(&decl.order)?;
-                let n = scope
-                    .as_rational(&value)
-                    .filter(|r| r.is_integer() && !r.is_negative())
-                    .ok_or(LowerError::BadOrder)
-                    .at(decl.order.span)?;
-                let n = n
-                    .to_i64()
-                    .and_then(|n| u32::try_from(n).ok())
-                    .filter(|n| *n <= crate::engine::MAX_ORDER)
-                    .ok_or(LowerError::OrderTooLarge)
-                    .at(decl.order.span)?;
+                let rational = scope.as_rational(&value);
+                let n = match rational.as_ref().map(|r| (r.is_integer() && !r.is_negative(), r)) {
+                    Some((true, r)) => r
+                        .to_i64()
+                        .and_then(|n| u32::try_from(n).ok())
+                        .filter(|&n| n <= model::MAX_ORDER)
+                        .ok_or(LowerError::OrderTooLarge),
+                    _ => Err(LowerError::BadOrder),
+                }
+                .at(decl.order.span)?;
                 if order.is_some() {
                     return Err(LowerError::DeclaredTwice { name: "order".to_string() })
                         .at(decl.span);

@@ -21,6 +21,9 @@ pub type Operator = SparseMatrix<RatFunc>;
 /// The most states a basis may have (all product states, or those a sector keeps).
 pub const MAX_DIMENSION: usize = 20_000;
 
+/// The largest order in lambda that a model may ask for and the engine accepts.
+pub const MAX_ORDER: u32 = 1000;
+
 /// A real symbol declared with `param`.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Param {

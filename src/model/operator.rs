@@ -9,7 +9,7 @@ use std::sync::Arc;
 use super::basis::{Basis, Key, Layout};
 use super::space::{LocalOperator, ModeAction};
 use super::Operator;
-use crate::exact::{Field, RatFunc};
+use crate::exact::{Field, RatFunc, ValueSize};
 
 /// An operator on the product of the declared spaces, as an expression in their local operators.
 /// Cheap to clone. Operators on one non-fermion space are multiplied and added as matrices as soon
@@ -101,6 +101,37 @@ impl OperatorExpr {
         match local {
             LocalOperator::Matrix(matrix) => OperatorExpr::local(space, matrix),
             LocalOperator::Mode { mode, action } => OperatorExpr::mode(space, mode, action),
+        }
+    }
+    /// The size of the largest coefficient in the expression (matrix entries and weights).
+    pub fn entry_size(&self) -> ValueSize {
+        match &*self.node {
+            Node::Identity | Node::Mode { .. } => RatFunc::one().size(),
+            Node::Local { matrix, .. } => matrix
+                .triplets()
+                .map(|(_, _, x)| x.size())
+                .fold(ValueSize::default(), ValueSize::max),
+            Node::Sum(terms) => terms
+                .iter()
+                .map(|(c, t)| c.size().max(t.entry_size()))
+                .fold(ValueSize::default(), ValueSize::max),
+            Node::Product(factors) => factors
+                .iter()
+                .map(OperatorExpr::entry_size)
+                .fold(ValueSize::default(), ValueSize::max),
+        }
+    }
+    /// The largest dimension of a space a matrix of the expression acts on (1 if none).
+    pub fn max_local_dimension(&self) -> usize {
+        match &*self.node {
+            Node::Identity | Node::Mode { .. } => 1,
+            Node::Local { matrix, .. } => matrix.n_rows(),
+            Node::Sum(terms) => {
+                terms.iter().map(|(_, t)| t.max_local_dimension()).max().unwrap_or(1)
+            }
+            Node::Product(factors) => {
+                factors.iter().map(OperatorExpr::max_local_dimension).max().unwrap_or(1)
+            }
         }
     }
     /// Leaf applications per basis state: how much work forming the matrix takes.

@@ -108,3 +108,141 @@ fn help_succeeds() {
         assert!(stdout.contains(command), "{stdout}");
     }
 }
+
+/// Runs `cleave ARGS` in `dir` with stdout sent to `stdout`; returns status, stdout, stderr.
+fn run_in(dir: &std::path::Path, args: &[&str], stdout: std::process::Stdio) -> (i32, String) {
+    let output = Command::new(env!("CARGO_BIN_EXE_cleave"))
+        .args(args)
+        .current_dir(dir)
+        .stdout(stdout)
+        .output()
+        .expect("run cleave");
+    (output.status.code().unwrap_or(-1), String::from_utf8_lossy(&output.stderr).into_owned())
+}
+
+fn dir_with_model(model: &str) -> tempfile::TempDir {
+    let dir = tempfile::tempdir().expect("a temp dir");
+    std::fs::write(dir.path().join("model.clv"), model).expect("write the model");
+    dir
+}
+
+/// The names in `dir`, sorted (temporary files would show here).
+fn listing(dir: &std::path::Path) -> Vec<String> {
+    let mut names: Vec<String> = std::fs::read_dir(dir)
+        .expect("list")
+        .map(|e| e.expect("entry").file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    names
+}
+
+/// Issue 12, item 8: one unwritable output means no output is written or changed.
+#[test]
+fn issue_12_outputs_all_or_nothing() {
+    let dir = dir_with_model(GOOD);
+    std::fs::write(dir.path().join("a.json"), "old").expect("write");
+    let args =
+        ["derive", "model.clv", "--json", "a.json", "--latex", "nodir/b.tex", "--rust", "c.rs"];
+    let (status, stderr) = run_in(dir.path(), &args, std::process::Stdio::piped());
+    assert_eq!(status, 2, "{stderr}");
+    assert!(stderr.contains("--latex nodir/b.tex"), "{stderr}");
+    assert_eq!(std::fs::read_to_string(dir.path().join("a.json")).expect("read"), "old");
+    assert_eq!(listing(dir.path()), ["a.json", "model.clv"]);
+    // A failure while writing (a full device) also leaves the earlier file as it was.
+    let args = ["derive", "model.clv", "--json", "a.json", "--latex", "/dev/full"];
+    let (status, stderr) = run_in(dir.path(), &args, std::process::Stdio::piped());
+    assert_eq!(status, 1, "{stderr}");
+    assert!(stderr.contains("cannot write to /dev/full"), "{stderr}");
+    assert_eq!(std::fs::read_to_string(dir.path().join("a.json")).expect("read"), "old");
+    assert_eq!(listing(dir.path()), ["a.json", "model.clv"]);
+    // When everything succeeds every file is replaced and no temporary file is left.
+    let args = ["derive", "model.clv", "--json", "a.json", "--rust", "c.rs"];
+    let (status, stderr) = run_in(dir.path(), &args, std::process::Stdio::piped());
+    assert_eq!(status, 0, "{stderr}");
+    assert!(std::fs::read_to_string(dir.path().join("a.json")).expect("read").starts_with('{'));
+    assert_eq!(listing(dir.path()), ["a.json", "c.rs", "model.clv"]);
+}
+
+/// Issue 12, item 9: a failed write to stdout is reported, and no file is changed with it.
+#[test]
+fn issue_12_failed_stdout_write_is_reported() {
+    let dir = dir_with_model(GOOD);
+    for args in [&["derive", "model.clv"][..], &["derive", "model.clv", "--json", "-"][..]] {
+        let full = std::fs::OpenOptions::new().write(true).open("/dev/full").expect("/dev/full");
+        let (status, stderr) = run_in(dir.path(), args, full.into());
+        assert_eq!(status, 1, "{args:?}: {stderr}");
+        assert!(stderr.contains("cannot write to stdout"), "{stderr}");
+    }
+    let full = std::fs::OpenOptions::new().write(true).open("/dev/full").expect("/dev/full");
+    std::fs::write(dir.path().join("a.json"), "old").expect("write");
+    let (status, _) = run_in(dir.path(), &["derive", "model.clv", "--json", "a.json"], full.into());
+    assert_eq!(status, 1);
+    assert_eq!(std::fs::read_to_string(dir.path().join("a.json")).expect("read"), "old");
+}
+
+/// Issue 12, item 10: conflicting outputs are refused before the model is even read (the
+/// model here does not parse, so an answer about the paths proves the order).
+#[test]
+fn issue_12_output_conflicts_refused_before_computing() {
+    let broken = "H0 = (\n";
+    let cases: &[(&[&str], &str)] = &[
+        (&["--json", "x", "--latex", "./x"], "--latex ./x: --json writes the same file"),
+        (&["--json", "model.clv"], "--json model.clv: that is the model file"),
+        (&["--json", "-", "--latex", "-"], "--latex -: stdout is already taken by --json -"),
+        (&["--rust", "missing/c.rs"], "--rust missing/c.rs: the directory missing is unusable"),
+        (&["--json", "."], "--json .: not a file name"),
+    ];
+    for (extra, expected) in cases {
+        let mut args = vec!["derive", "model.clv"];
+        args.extend_from_slice(extra);
+        check_bad_input(broken, &args, expected);
+    }
+    check_bad_input(broken, &["levels", "model.clv", "--json", "model.clv"], "the model file");
+    check_bad_input(broken, &["check", "model.clv", "--plot", "no/p.svg"], "--plot no/p.svg");
+    let dir = dir_with_model(GOOD);
+    let (status, _) = run_in(
+        dir.path(),
+        &["derive", "model.clv", "--json", "model.clv"],
+        std::process::Stdio::null(),
+    );
+    assert_eq!(status, 2);
+    assert_eq!(std::fs::read_to_string(dir.path().join("model.clv")).expect("read"), GOOD);
+}
+
+/// Issue 12, item 12: an order beyond the limit is refused by `check` as by `derive`, before
+/// `tested + 2` could wrap around; and the model's own `order` is refused at its statement.
+#[test]
+fn issue_12_order_beyond_the_limit() {
+    for command in ["derive", "check"] {
+        check_bad_input(
+            GOOD,
+            &[command, "model.clv", "--order", "4294967295"],
+            "--order 4294967295: the order must be at most 1000",
+        );
+        check_bad_input(GOOD, &[command, "model.clv", "--order", "0"], "at least 1");
+    }
+    check_bad_input(
+        &format!("{GOOD}order 1001\n"),
+        &["check", "model.clv"],
+        "model.clv:5:7: the order must be at most 1000",
+    );
+    check_bad_input(
+        &format!("{GOOD}order 99999999999999999999\n"),
+        &["derive", "model.clv"],
+        "model.clv:5:7: the order must be at most 1000",
+    );
+    check_bad_input(
+        &format!("{GOOD}order 3/2\n"),
+        &["derive", "model.clv"],
+        "model.clv:5:7: the order must be a non-negative integer",
+    );
+}
+
+/// Issue 12, item 13: with `--plot -` the plot takes stdout and the table goes to stderr.
+#[test]
+fn issue_12_plot_to_stdout_keeps_the_table() {
+    let (status, stdout, stderr) = run_cleave(GOOD, &["check", "model.clv", "--plot", "-"]);
+    assert_eq!(status, 0, "{stderr}");
+    assert!(stdout.starts_with("<svg"), "{stdout}");
+    assert!(stderr.contains("Numeric check of model.clv"), "{stderr}");
+}

@@ -397,3 +397,45 @@ fn every_example_model_loads() {
         }
     }
 }
+
+/// Loads `text` and asserts it is refused at `line_col` with `expected` in the message.
+fn check_refused(text: &str, line_col: &str, expected: &str) {
+    let diagnostic = cleave::load(text).expect_err("refused");
+    let rendered = crate::support::render_at(text, &diagnostic, line_col);
+    assert!(rendered.contains(expected), "expected {expected:?} in\n{rendered}");
+}
+
+/// Issue 12, items 1 and 4: values are bounded in bits and terms by any route (powers, chains of
+/// `let` products, operator powers, literals) and refused before they are computed.
+#[test]
+fn issue_12_value_size_limits() {
+    let too_large = "this value is too large";
+    check_refused(
+        "param g, t\nspace q = oscillator(3)\nH0 = q.n\nV = (g+t+1)^300 * (q.lower+q.raise)\n",
+        "4:5",
+        too_large,
+    );
+    check_refused(
+        "space q = oscillator(3)\nH0 = q.n\nV = (7^1000)^1000 * (q.lower+q.raise)\n",
+        "3:5",
+        too_large,
+    );
+    let mut chain = String::from("param g\nspace q = oscillator(3)\nlet x0 = 3*g + 1\n");
+    for k in 1..60 {
+        chain.push_str(&format!("let x{k} = x{} * x{}\n", k - 1, k - 1));
+    }
+    chain.push_str("H0 = q.n\nV = x59 * (q.lower+q.raise)\n");
+    check_refused(&chain, "12:10", too_large);
+    check_refused(
+        "param g\nspace q = oscillator(3)\nH0 = q.n\nV = (g*(q.lower+q.raise)+1)^1000\n",
+        "4:5",
+        too_large,
+    );
+    let literal = format!("space q = oscillator(3)\nH0 = q.n\nV = {} * q.n\n", "7".repeat(100_000));
+    check_refused(&literal, "3:5", "number too large (at most 1000 characters");
+    // Within the limits: 7^1000 (2808 bits) and a 64th power of a binomial.
+    assert!(cleave::load(
+        "param g\nspace q = oscillator(3)\nH0 = q.n\nV = 7^1000 * (g+1)^64 * q.n\n"
+    )
+    .is_ok());
+}
