@@ -28,11 +28,11 @@ pub struct CFix {
 
 impl Precision {
     /// The number `value` rounded toward zero.
-    pub fn from_rational(self, value: &Rational) -> Fix {
+    pub fn of_rational(self, value: &Rational) -> Fix {
         (value.numer() << self.bits) / value.denom()
     }
     /// The number `value` exactly (an `f64` is a dyadic rational; far-off exponents are cut).
-    pub fn from_f64(self, value: f64) -> Fix {
+    pub fn of_f64(self, value: f64) -> Fix {
         if value == 0.0 || !value.is_finite() {
             return Fix::zero();
         }
@@ -97,8 +97,8 @@ impl Precision {
                 }
             }
             for (s, c) in coeff.terms() {
-                let root = self.sqrt(&self.from_rational(&Rational::from_i64(s.abs())));
-                let term = self.mul(&self.mul(&root, &self.from_rational(c)), &factor);
+                let root = self.sqrt(&self.of_rational(&Rational::from_i64(s.abs())));
+                let term = self.mul(&self.mul(&root, &self.of_rational(c)), &factor);
                 if *s < 0 {
                     acc.im += term;
                 } else {
@@ -123,7 +123,7 @@ impl Precision {
             let mid = (lo.clone() + &hi) * &half;
             let s = eval(&mid).signum();
             if s == 0 {
-                return self.from_rational(&mid);
+                return self.of_rational(&mid);
             }
             if s == sign_hi {
                 hi = mid;
@@ -131,7 +131,7 @@ impl Precision {
                 lo = mid;
             }
         }
-        self.from_rational(&hi)
+        self.of_rational(&hi)
     }
 }
 
@@ -180,15 +180,15 @@ pub fn symmetric_eigenvalues(prec: Precision, mut a: Vec<Vec<Fix>>) -> Vec<Fix> 
                     .div(&prec.one(), &prec.sqrt(&(prec.mul(&t, &t) + prec.one())))
                     .unwrap_or_else(|| prec.one());
                 let s = prec.mul(&t, &c);
-                for k in 0..n {
-                    let (akp, akq) = (a[k][p].clone(), a[k][q].clone());
-                    a[k][p] = prec.mul(&c, &akp) - prec.mul(&s, &akq);
-                    a[k][q] = prec.mul(&s, &akp) + prec.mul(&c, &akq);
+                for row in a.iter_mut() {
+                    let (akp, akq) = (row[p].clone(), row[q].clone());
+                    row[p] = prec.mul(&c, &akp) - prec.mul(&s, &akq);
+                    row[q] = prec.mul(&s, &akp) + prec.mul(&c, &akq);
                 }
-                for k in 0..n {
-                    let (apk, aqk) = (a[p][k].clone(), a[q][k].clone());
-                    a[p][k] = prec.mul(&c, &apk) - prec.mul(&s, &aqk);
-                    a[q][k] = prec.mul(&s, &apk) + prec.mul(&c, &aqk);
+                let (row_p, row_q) = (a[p].clone(), a[q].clone());
+                for (k, (apk, aqk)) in row_p.iter().zip(&row_q).enumerate() {
+                    a[p][k] = prec.mul(&c, apk) - prec.mul(&s, aqk);
+                    a[q][k] = prec.mul(&s, apk) + prec.mul(&c, aqk);
                 }
             }
         }
@@ -203,9 +203,9 @@ mod tests {
     #[test]
     fn round_trips_and_square_roots() {
         let prec = Precision { bits: 200 };
-        let x = prec.from_f64(-0.375);
+        let x = prec.of_f64(-0.375);
         assert_eq!(prec.to_f64(&x), -0.375);
-        let two = prec.from_rational(&Rational::from_i64(2));
+        let two = prec.of_rational(&Rational::from_i64(2));
         let r = prec.sqrt(&two);
         assert!((prec.to_f64(&r) - std::f64::consts::SQRT_2).abs() < 1e-15);
         // A 2x2 matrix [[2, 1], [1, 2]] has eigenvalues 1 and 3.

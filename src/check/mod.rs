@@ -347,7 +347,7 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
     // lambda goes down to rho/1024 = rho * 2^-10: each order costs ten bits, plus room for the
     // size of the energies and the rounding of the refinement.
     let prec = Precision { bits: 10 * (highest + 2) + 160 };
-    let mut exact_symbols: Vec<Fix> = exact_params.iter().map(|v| prec.from_rational(v)).collect();
+    let mut exact_symbols: Vec<Fix> = exact_params.iter().map(|v| prec.of_rational(v)).collect();
     exact_symbols.extend(
         derivation.roots.iter().map(|r| prec.root_in(&r.polynomial, &r.interval.0, &r.interval.1)),
     );
@@ -387,21 +387,17 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
         complex.push(c);
     }
     let mut ops = Operators { size, dense, exact, complex, prec, cache: BTreeMap::new() };
-    let scale = ops.eigen(0.0).eigenvalues.iter().fold(1e-300f64, |m, e| m.max(e.abs()));
-    let mut spectra = (n <= radius::MAX_RADIUS_DIMENSION)
-        .then(|| radius::Spectra::new(ops.complex.clone(), scale));
-    if spectra.is_none() {
-        res.notes.push(format!(
-            "the exceptional points are searched in product spaces of at most {} states; the \
-             radius column shows the root-test estimate only",
-            radius::MAX_RADIUS_DIMENSION
-        ));
-    }
+    // The size of the energies: of H0, and of H(1) where H0 alone is zero or small.
+    let scale = [0.0, 1.0]
+        .iter()
+        .flat_map(|&l| ops.eigen(l).eigenvalues.iter().map(|e| e.abs()).collect::<Vec<_>>())
+        .fold(1e-300f64, f64::max);
+    let mut blocks = radius::Blocks::new(&ops.complex, scale);
     for (s, space) in derivation.model_spaces.iter().enumerate() {
         for (b, branch) in space.branches.iter().enumerate() {
             let check = check_branch(
                 &mut ops,
-                spectra.as_mut(),
+                &mut blocks,
                 (s, b),
                 &branch.energy,
                 branch.not_split.is_some(),
@@ -418,7 +414,7 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
 #[allow(clippy::too_many_arguments)]
 fn check_branch(
     ops: &mut Operators,
-    spectra: Option<&mut radius::Spectra>,
+    blocks: &mut radius::Blocks,
     (space, branch): (usize, usize),
     energy: &[RatFunc],
     not_split: bool,
@@ -474,16 +470,35 @@ fn check_branch(
     // The first non-zero coefficient beyond the tested order sets the expected slope.
     let next_nonzero = (tested + 1..=highest).find(|&k| coeffs[k] != 0.0);
     res.expected_slope = next_nonzero.unwrap_or(tested + 1) as u32;
-    // The scale at which the terms grow: every |E_k| rho^k stays below the energy scale.
-    let rho_coeff = (1..=highest)
+    // The scale at which the terms grow: every |E_k| rho^k stays below the gap from E^(0) to the
+    // nearest other unperturbed level, and the ratios of the last coefficients, where they are
+    // all non-zero, bound it too.
+    let gap = {
+        let e0 = coeffs[0];
+        let eig = ops.eigen(0.0);
+        eig.eigenvalues
+            .iter()
+            .map(|e| (e - e0).abs())
+            .filter(|d| *d > 1e-9 * scale)
+            .fold(f64::INFINITY, f64::min)
+    };
+    let gap = if gap.is_finite() { gap } else { scale };
+    let mut rho_coeff = (1..=highest)
         .filter(|&k| coeffs[k] != 0.0)
-        .map(|k| (coeffs[k].abs() / scale).powf(-1.0 / k as f64))
+        .map(|k| (coeffs[k].abs() / gap).powf(-1.0 / k as f64))
         .fold(f64::INFINITY, f64::min);
+    let last = &coeffs[(highest / 2).max(1)..];
+    if last.len() >= 2 && last.iter().all(|c| *c != 0.0) {
+        let ratio = last.windows(2).map(|w| (w[0] / w[1]).abs()).fold(f64::INFINITY, f64::min);
+        rho_coeff = rho_coeff.min(ratio);
+    }
     let rho_coeff = if rho_coeff.is_finite() { rho_coeff } else { 1.0 };
     res.root_test = radius_estimate(&coeffs);
-    if let Some(spectra) = spectra {
-        let limit = 4.0 * rho_coeff.max(res.root_test.unwrap_or(0.0));
-        res.radius = Some(radius::branch_radius(spectra, &coeffs, rho_coeff / 32.0, limit));
+    let start = rho_coeff / 64.0;
+    let start_value = coeffs.iter().rev().fold(0.0, |acc, c| acc * start + c);
+    if let Some(spectra) = blocks.block_of(start, start_value) {
+        let limit = 4.0 * rho_coeff;
+        res.radius = Some(radius::branch_radius(spectra, &coeffs, start, limit));
     }
     let rho = match res.radius {
         Some(Radius::At(r)) => r.min(rho_coeff),
@@ -497,7 +512,7 @@ fn check_branch(
     let mut deviation: f64 = 0.0;
     for j in 6..=10 {
         let lambda = top * 2f64.powi(-j);
-        let lambda_fix = prec.from_f64(lambda);
+        let lambda_fix = prec.of_f64(lambda);
         let series = horner(prec, &exact[..=tested], &lambda_fix);
         let Some(eigenvalue) = precise_eigenvalue(ops, lambda, &lambda_fix, &series, scale) else {
             res.skipped = Some("the exact eigenvalue could not be refined at these values".into());
@@ -596,7 +611,7 @@ fn precise_eigenvalue(
     let m = cluster.len();
     let mut x: Vec<Vec<Fix>> = cluster
         .iter()
-        .map(|&j| eig.eigenvectors.column(j).iter().map(|v| prec.from_f64(*v)).collect())
+        .map(|&j| eig.eigenvectors.column(j).iter().map(|v| prec.of_f64(*v)).collect())
         .collect();
     let mean = cluster.iter().map(|&j| values[j]).sum::<f64>() / m as f64;
     let noise = prec.to_f64(&Fix::from(1u32)) * 2f64.powi(40) * scale.max(1.0);
@@ -614,11 +629,11 @@ fn precise_eigenvalue(
         let images: Vec<Vec<Fix>> = x.iter().map(|v| apply(v)).collect();
         let mut largest: f64 = 0.0;
         let mut corrections = Vec::with_capacity(m);
-        for a in 0..m {
+        for image in &images {
             // r = H x_a - sum_b x_b <x_b, H x_a>.
-            let mut r = images[a].clone();
+            let mut r = image.clone();
             for xb in &x {
-                let theta = dot(prec, xb, &images[a]);
+                let theta = dot(prec, xb, image);
                 for (ri, xi) in r.iter_mut().zip(xb) {
                     *ri -= prec.mul(&theta, xi);
                 }
@@ -640,7 +655,7 @@ fn precise_eigenvalue(
         }
         for (xa, delta) in x.iter_mut().zip(&corrections) {
             for (xi, d) in xa.iter_mut().zip(delta) {
-                *xi += prec.from_f64(*d);
+                *xi += prec.of_f64(*d);
             }
         }
     }
@@ -775,7 +790,7 @@ mod tests {
     /// `Field` is used by the substitution; this keeps the import honest.
     #[test]
     fn substitution_of_a_constant_is_itself() {
-        let v = RatFunc::from_rational(&Rational::from_i64(3));
+        let v = <RatFunc as crate::exact::Field>::from_rational(&Rational::from_i64(3));
         assert_eq!(substitute_value(&v, &[]), Some(v));
     }
 }

@@ -283,7 +283,7 @@ pub fn check_plot(verification: &Verification) -> String {
             }
         }
         // The expected slope through the branch's largest precise point, dashed.
-        if let Some((l, e)) = b.precise.iter().copied().filter(|(_, e)| *e > 0.0).last() {
+        if let Some((l, e)) = b.precise.iter().copied().rfind(|(_, e)| *e > 0.0) {
             let slope = f64::from(b.expected_slope);
             let (ax, ay) = (l.log10(), e.log10());
             let (bx, by) = (x0, ay + slope * (x0 - ax));
