@@ -471,8 +471,7 @@ fn check_branch(
     let next_nonzero = (tested + 1..=highest).find(|&k| coeffs[k] != 0.0);
     res.expected_slope = next_nonzero.unwrap_or(tested + 1) as u32;
     // The scale at which the terms grow: every |E_k| rho^k stays below the gap from E^(0) to the
-    // nearest other unperturbed level, and the ratios of the last coefficients, where they are
-    // all non-zero, bound it too.
+    // nearest other unperturbed level.
     let gap = {
         let e0 = coeffs[0];
         let eig = ops.eigen(0.0);
@@ -483,15 +482,10 @@ fn check_branch(
             .fold(f64::INFINITY, f64::min)
     };
     let gap = if gap.is_finite() { gap } else { scale };
-    let mut rho_coeff = (1..=highest)
+    let rho_coeff = (1..=highest)
         .filter(|&k| coeffs[k] != 0.0)
         .map(|k| (coeffs[k].abs() / gap).powf(-1.0 / k as f64))
         .fold(f64::INFINITY, f64::min);
-    let last = &coeffs[(highest / 2).max(1)..];
-    if last.len() >= 2 && last.iter().all(|c| *c != 0.0) {
-        let ratio = last.windows(2).map(|w| (w[0] / w[1]).abs()).fold(f64::INFINITY, f64::min);
-        rho_coeff = rho_coeff.min(ratio);
-    }
     let rho_coeff = if rho_coeff.is_finite() { rho_coeff } else { 1.0 };
     res.root_test = radius_estimate(&coeffs);
     let start = rho_coeff / 64.0;

@@ -3,6 +3,7 @@
 
 mod support;
 
+mod check;
 mod cli;
 mod derive;
 mod emit;
