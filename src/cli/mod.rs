@@ -92,7 +92,7 @@ struct CheckArgs {
     /// A parameter value, e.g. `--at g=1/10` (repeatable); others get a default.
     #[arg(long, value_name = "NAME=VALUE")]
     at: Vec<String>,
-    /// Write an SVG plot of the errors to PATH.
+    /// Write an SVG plot of the errors to PATH (a name ending in `.svg`, or `-`).
     #[arg(long, value_name = "PATH")]
     plot: Option<PathBuf>,
 }
@@ -261,15 +261,24 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
     check_order_flag(args.order)?;
     let loaded = load(&args.model)?;
     let at = parse_at(&args.at, &loaded.model)?;
-    // The series is derived two orders further than tested: those coefficients predict the
-    // error of the order-N series, which makes the numeric test sharp.
+    if let Some(path) = &args.plot {
+        // The plot is SVG; a name that promises another format is refused rather than written
+        // with SVG inside.
+        let is_svg = path.extension().is_some_and(|e| e.eq_ignore_ascii_case("svg"));
+        if !is_stdout(path) && !is_svg {
+            return Err(Failure::bad_input(format!(
+                "--plot {}: the plot is written as SVG only; give a file name ending in .svg \
+                 (or `-` for stdout)",
+                path.display()
+            )));
+        }
+    }
+    // The parameters are set first and the series derived numerically, a few orders beyond
+    // the one tested: those coefficients predict the error of the order-N series.
     let tested = order(args.order, &loaded)?;
-    let extra = if tested.saturating_add(2) <= engine::MAX_ORDER { 2 } else { 0 };
-    let options = DeriveOptions::new(tested + extra);
-    let derivation = engine::derive(&loaded.model, &options)
-        .map_err(|err| loaded.engine_failure(err, args.order.is_some()))?;
     let check_options = CheckOptions { at, order: Some(tested) };
-    let verification = check::verify(&loaded.model, &derivation, &check_options);
+    let (derivation, verification) = check::run(&loaded.model, &check_options)
+        .map_err(|err| loaded.engine_failure(err, args.order.is_some()))?;
     let table = emit::check_report(&derivation, &verification, &loaded.name);
     // With `--plot -` the plot takes stdout, so the table goes to stderr, where the verdict
     // below still follows it.
@@ -282,14 +291,20 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
         outputs.report_unless_stdout_taken(|| table);
     }
     outputs.write()?;
-    // A branch whose error does not fall like lambda^(N+1) is a result the user must not trust:
-    // the table says which, and the exit status lets scripts stop.
-    let failed = verification.branches.iter().filter(|b| !b.passed).count();
+    // A branch whose error is not what a correct series leaves is a result the user must not
+    // trust: the table says which, and the exit status lets scripts stop. A check that compared
+    // nothing proves nothing, and says so the same way.
+    let failed = verification.n_failed();
     if failed > 0 {
         return Err(Failure::infeasible(format!(
             "{failed} of {} branches failed the numeric check; see the table above",
-            verification.branches.len()
+            verification.n_checked()
         )));
+    }
+    if verification.n_checked() == 0 {
+        return Err(Failure::infeasible(
+            "no branch was compared (the table says why); nothing was verified",
+        ));
     }
     Ok(())
 }

@@ -4,6 +4,7 @@
 mod support;
 
 mod answers;
+mod check;
 mod cli;
 mod derive;
 mod emit;
