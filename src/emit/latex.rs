@@ -9,10 +9,10 @@ use super::terms::{self, Atom, Fraction};
 use super::text;
 use super::{report, LatexOptions};
 use crate::check;
-use crate::engine::{Branch, Derivation, ModelSpace, Note, SecularEquation};
+use crate::engine::{Branch, Derivation, ModelSpace, Note, OperatorForm, SecularEquation};
 use crate::exact::{Field, RatFunc};
 use crate::linalg::SparseVec;
-use crate::model::{Basis, LabelField, Model};
+use crate::model::{Basis, LabelField, Model, Target};
 use num_traits::One;
 
 /// Width, in rough character units, of a displayed line before it breaks; about the text width
@@ -134,6 +134,23 @@ pub(crate) fn latex(
         };
         out.push('\n');
         model_space(&mut out, &context);
+    }
+    if let Some(first) = derivation.model_spaces.first() {
+        if !derivation.quantities.is_empty() {
+            let context = SpaceContext {
+                model,
+                space: first,
+                number: 1,
+                names,
+                factoring: &factoring,
+                n_params: derivation.parameters.len(),
+                roots: &derivation.roots,
+                order: derivation.order,
+                name,
+                options,
+            };
+            quantities(&mut out, derivation, &context);
+        }
     }
     if options.standalone {
         out.push_str("\\end{document}\n");
@@ -265,7 +282,7 @@ fn model_space(out: &mut String, ctx: &SpaceContext<'_>) {
     let _ = writeln!(out, "\\paragraph{{Model space {}.}}", ctx.number);
     let _ = write!(
         out,
-        "Unperturbed energ{} $E_0 = {}$; {d} state{}{}. Basis: ",
+        "{{\\sloppy Unperturbed energ{} $E_0 = {}$; {d} state{}{}. Basis: ",
         if energies.len() > 1 { "ies" } else { "y" },
         energies.join(",\\ "),
         if d == 1 { "" } else { "s" },
@@ -295,7 +312,8 @@ fn model_space(out: &mut String, ctx: &SpaceContext<'_>) {
             norms.join(", ")
         );
     }
-    out.push('\n');
+    // Sloppy spacing (the group opened above) lets a long list of kets break between them.
+    out.push_str("\\par}\n");
     branch_table(out, ctx);
     if d > 1 {
         effective_hamiltonian(out, ctx);
@@ -306,6 +324,9 @@ fn model_space(out: &mut String, ctx: &SpaceContext<'_>) {
     out.push_str("\nThe branch series:\n");
     for (b, branch) in space.branches.iter().enumerate() {
         branch_series(out, b + 1, branch, ctx);
+    }
+    if let Some(form) = &space.operator_form {
+        operator_form(out, form, ctx);
     }
     for note in &space.notes {
         let _ = writeln!(out, "\n\\noindent\\emph{{Note.}} {}", note_latex(note));
@@ -651,6 +672,26 @@ fn branch_series(out: &mut String, number: usize, branch: &Branch, ctx: &SpaceCo
     pieces.push(Tex::new(format!(" + O(\\lambda^{{{next}}})"), 8));
     let lhs = Tex::new(format!("E_{{{number}}}(\\lambda) = "), 7);
     display(out, &lhs, &pieces, None);
+    let basis = ctx.model.basis();
+    let from: Vec<String> = branch
+        .zeroth_order
+        .iter()
+        .map(|v| format!("${}$", state(v, basis, ctx.names).text))
+        .collect();
+    match from.as_slice() {
+        [] => {}
+        // Sloppy spacing lets a long sum of kets break between its terms.
+        [one] => {
+            let _ = writeln!(out, "{{\\sloppy Branch {number} comes from {one}.\\par}}");
+        }
+        several => {
+            let _ = writeln!(
+                out,
+                "{{\\sloppy Branch {number} comes from the span of {}.\\par}}",
+                several.join(", ")
+            );
+        }
+    }
     if let Some(ns) = &branch.not_split {
         let _ = writeln!(
             out,
@@ -664,6 +705,81 @@ fn branch_series(out: &mut String, number: usize, branch: &Branch, ctx: &SpaceCo
         display(out, &Tex::new("", 0), &pieces, Some(&Tex::new(" = 0", 2)));
         out.push_str("The effective Hamiltonian still holds; its eigenvalues are the branches.\n");
     }
+}
+
+/// A coefficient series `c_0 + c_1 λ + ...` as display pieces, factored where that reads better.
+fn coefficient_pieces(coeffs: &[RatFunc], ctx: &SpaceContext<'_>) -> Vec<Tex> {
+    let fractions: Vec<Fraction> = coeffs.iter().map(terms::fraction).collect();
+    let factored: Vec<Option<(bool, Tex)>> = coeffs.iter().map(|c| factored_tex(c, ctx)).collect();
+    let mut pieces = series_pieces_with(&fractions, &factored, "\\lambda", false, ctx.names);
+    if pieces.is_empty() {
+        pieces.push(Tex::new("0", 1));
+    }
+    pieces.push(Tex::new(format!(" + O(\\lambda^{{{}}})", coeffs.len()), 8));
+    pieces
+}
+
+/// The named quantities, one display each.
+fn quantities(out: &mut String, derivation: &Derivation, ctx: &SpaceContext<'_>) {
+    out.push_str(
+        "\n\\paragraph{Quantities.}\nCombinations of branch energies named in the model:\n",
+    );
+    for quantity in &derivation.quantities {
+        let lhs_name = symbol(&quantity.name);
+        let lhs = Tex::new(format!("{}(\\lambda) = ", lhs_name.text), lhs_name.width + 4);
+        display(out, &lhs, &coefficient_pieces(&quantity.series, ctx), None);
+    }
+}
+
+/// The target's name as a subscript: `s1` gives `1`, other names stay as written.
+fn target_subscript(name: &str) -> String {
+    match name.strip_prefix('s') {
+        Some(rest) if !rest.is_empty() && rest.chars().all(|c| c.is_ascii_digit()) => {
+            rest.to_string()
+        }
+        _ => format!("\\mathrm{{{}}}", escape_math(name)),
+    }
+}
+
+/// The effective Hamiltonian in spin or Pauli operators: one display per grouped term.
+fn operator_form(out: &mut String, form: &OperatorForm, ctx: &SpaceContext<'_>) {
+    let (what, convention) = match form.target {
+        Target::Spins => ("spin operators", "$\\mathbf{S} = \\boldsymbol{\\sigma}/2$"),
+        Target::Qubits => ("Pauli operators", "$Z\\lvert 0\\rangle = \\lvert 0\\rangle$"),
+    };
+    let _ = writeln!(
+        out,
+        "\nThe effective Hamiltonian in {what} ({convention}) is $\\sum_t c_t(\\lambda)\\, O_t$ with"
+    );
+    for term in super::operators::grouped(form) {
+        let operator = operator_tex(form, &term);
+        let lhs = Tex::new(format!("{}:\\quad ", operator.text), operator.width + 2);
+        display(out, &lhs, &coefficient_pieces(&term.coefficient, ctx), None);
+    }
+}
+
+/// `\mathbf{S}_{1}\cdot\mathbf{S}_{2}`, `S^{z}_{1} S^{z}_{2}`, `Z_{a} Z_{b}` or `1`.
+fn operator_tex(form: &OperatorForm, term: &super::operators::GroupedTerm) -> Tex {
+    let spin = |k: usize| format!("\\mathbf{{S}}_{{{}}}", target_subscript(&form.names[k]));
+    let mut parts: Vec<String> = Vec::new();
+    for (i, j) in &term.pairs {
+        parts.push(format!("({}\\cdot {})", spin(*i), spin(*j)));
+    }
+    for (k, c) in &term.factors {
+        let component = super::operators::component_name(form.target, *c);
+        parts.push(match form.target {
+            Target::Spins => {
+                format!("S^{{{component}}}_{{{}}}", target_subscript(&form.names[*k]))
+            }
+            Target::Qubits => format!("{component}_{{{}}}", target_subscript(&form.names[*k])),
+        });
+    }
+    if parts.len() == 1 && term.pairs.len() == 1 {
+        parts[0] = parts[0].trim_start_matches('(').trim_end_matches(')').to_string();
+    }
+    let text = if parts.is_empty() { "1".to_string() } else { parts.join("\\,") };
+    let width = 3 * (term.pairs.len() * 2 + term.factors.len()).max(1);
+    Tex::new(text, width)
 }
 
 /// Writes `lhs pieces suffix` as `equation*` when it fits a line, else as `multline*` broken

@@ -12,6 +12,10 @@ use crate::model::Target;
 /// One printed term: what it multiplies, written in cleave's syntax, and its coefficient series.
 pub(crate) struct GroupedTerm {
     pub label: String,
+    /// Dot products `S_i . S_j` the term multiplies.
+    pub pairs: Vec<(usize, usize)>,
+    /// Single components it multiplies (when not grouped into dot products).
+    pub factors: Vec<(usize, Component)>,
     pub coefficient: Vec<RatFunc>,
 }
 
@@ -76,7 +80,12 @@ pub(crate) fn grouped(form: &OperatorForm) -> Vec<GroupedTerm> {
                 let label = format!("dot({}, {})", form.names[i], form.names[j]);
                 groups.push((
                     vec![(i, Component::X), (j, Component::X)],
-                    GroupedTerm { label, coefficient: xx },
+                    GroupedTerm {
+                        label,
+                        pairs: vec![(i, j)],
+                        factors: Vec::new(),
+                        coefficient: xx,
+                    },
                 ));
             }
         }
@@ -143,7 +152,9 @@ pub(crate) fn grouped(form: &OperatorForm) -> Vec<GroupedTerm> {
                     (q[2], Component::Y),
                     (q[3], Component::Y),
                 ];
-                groups.push((key, GroupedTerm { label, coefficient: weight }));
+                let pairs = vec![(q[p.0], q[p.1]), (q[r.0], q[r.1])];
+                let term = GroupedTerm { label, pairs, factors: Vec::new(), coefficient: weight };
+                groups.push((key, term));
             }
         }
     }
@@ -156,9 +167,12 @@ pub(crate) fn grouped(form: &OperatorForm) -> Vec<GroupedTerm> {
                 let same_support = key.iter().map(|f| f.0).eq(term.factors.iter().map(|f| f.0));
                 if same_support {
                     placed[g] = true;
+                    let group = &groups[g].1;
                     res.push(GroupedTerm {
-                        label: groups[g].1.label.clone(),
-                        coefficient: groups[g].1.coefficient.clone(),
+                        label: group.label.clone(),
+                        pairs: group.pairs.clone(),
+                        factors: Vec::new(),
+                        coefficient: group.coefficient.clone(),
                     });
                 }
             }
@@ -166,6 +180,8 @@ pub(crate) fn grouped(form: &OperatorForm) -> Vec<GroupedTerm> {
         if !used.contains(&term.factors) {
             res.push(GroupedTerm {
                 label: product_label(form, term),
+                pairs: Vec::new(),
+                factors: term.factors.clone(),
                 coefficient: term.coefficient.clone(),
             });
         }

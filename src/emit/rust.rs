@@ -11,7 +11,7 @@ use num_traits::Signed;
 
 use super::terms::{self, Atom};
 use super::{report, text};
-use crate::engine::{Branch, Derivation, ModelSpace};
+use crate::engine::{Branch, Derivation, ModelSpace, OperatorForm};
 use crate::exact::{Field, RatFunc, Rational};
 use crate::model::Model;
 
@@ -28,8 +28,19 @@ const KEYWORDS: [&str; 52] = [
 const NOT_RAW: [&str; 5] = ["crate", "self", "Self", "super", "_"];
 /// Names the generated code uses itself, or that a pattern would read as something else (a
 /// `const` or an enum variant in scope); a parameter with such a name gets a trailing underscore.
-const RESERVED: [&str; 10] =
-    ["lambda", "horner", "PARAMETERS", "BRANCHES", "ORDER", "None", "Some", "Ok", "Err", "f64"];
+const RESERVED: [&str; 11] = [
+    "lambda",
+    "horner",
+    "PARAMETERS",
+    "BRANCHES",
+    "ORDER",
+    "QUANTITIES",
+    "None",
+    "Some",
+    "Ok",
+    "Err",
+    "f64",
+];
 
 /// A parameter's name in generated code.
 #[derive(Clone, Debug)]
@@ -71,6 +82,27 @@ pub(crate) fn rust(model: &Model, derivation: &Derivation, name: &str) -> String
         hamiltonian_function(
             &mut body, model, derivation, name, space_idx, space, &idents, &mut roots,
         );
+        if let Some(form) = &space.operator_form {
+            operator_form_functions(&mut body, derivation, space_idx, form, &idents, &mut roots);
+        }
+    }
+    let mut quantity_dispatch = Vec::new();
+    for (q, quantity) in derivation.quantities.iter().enumerate() {
+        let fn_name = format!("quantity_{}", snake(&quantity.name, q));
+        let doc = format!(
+            "The named quantity `{}` of the model, as a series in lambda:",
+            doc_safe(&quantity.name)
+        );
+        series_function(
+            &mut body,
+            &fn_name,
+            &doc,
+            &quantity.series,
+            derivation,
+            &idents,
+            &mut roots,
+        );
+        quantity_dispatch.push(fn_name);
     }
     let mut out = String::new();
     header(&mut out, model, derivation, name);
@@ -117,8 +149,118 @@ pub(crate) fn rust(model: &Model, derivation: &Derivation, name: &str) -> String
          coefficients.iter().rev().fold(0.0, |acc, c| acc * x + c)\n}\n\n",
     );
     energy_dispatch(&mut out, &dispatch);
+    if !quantity_dispatch.is_empty() {
+        quantities_dispatch(&mut out, derivation, &quantity_dispatch);
+    }
     out.push_str(&body);
     out
+}
+
+/// A lowercase identifier made of a name's letters and digits (`ZZ` gives `zz`), or `q{k}` when
+/// nothing is left.
+fn snake(name: &str, k: usize) -> String {
+    let res: String = name
+        .chars()
+        .map(|c| if c.is_ascii_alphanumeric() { c.to_ascii_lowercase() } else { '_' })
+        .collect();
+    if res.is_empty() || res.starts_with(|c: char| c.is_ascii_digit()) {
+        format!("q{}_{res}", k + 1)
+    } else {
+        res
+    }
+}
+
+/// `QUANTITIES` and the table-driven `quantity(index, lambda, params)`.
+fn quantities_dispatch(out: &mut String, derivation: &Derivation, fns: &[String]) {
+    let names: Vec<String> =
+        derivation.quantities.iter().map(|q| format!("{:?}", q.name)).collect();
+    let _ = writeln!(
+        out,
+        "/// The model's named quantities, the valid `index` values of [`quantity`] being their\n\
+         /// positions here.\npub const QUANTITIES: [&str; {}] = [{}];\n",
+        names.len(),
+        names.join(", ")
+    );
+    out.push_str(
+        "/// The named quantity `index` (see [`QUANTITIES`]) at `lambda`, with parameter values\n\
+         /// `params` in the order of [`PARAMETERS`]; `f64::NAN` for an unknown index or too few\n\
+         /// parameters.\n\
+         pub fn quantity(index: usize, lambda: f64, params: &[f64]) -> f64 {\n    \
+         if params.len() < PARAMETERS.len() {\n        return f64::NAN;\n    }\n    \
+         match index {\n",
+    );
+    let args: Vec<String> =
+        (0..derivation.parameters.len()).map(|p| format!("params[{p}]")).collect();
+    for (index, fn_name) in fns.iter().enumerate() {
+        let mut all = vec!["lambda".to_string()];
+        all.extend(args.iter().cloned());
+        let _ = writeln!(out, "        {index} => {fn_name}({}),", all.join(", "));
+    }
+    out.push_str("        _ => f64::NAN,\n    }\n}\n");
+}
+
+/// A function `fn_name(lambda, params...)` evaluating `series` (coefficients of `lambda^k`).
+fn series_function(
+    out: &mut String,
+    fn_name: &str,
+    doc: &str,
+    series: &[RatFunc],
+    derivation: &Derivation,
+    idents: &[Ident],
+    roots: &mut BTreeSet<u64>,
+) {
+    let names = &text::Names::plain(derivation.symbol_names());
+    let _ = writeln!(
+        out,
+        "\n/// {doc}\n///\n/// ```text\n/// {}\n/// ```",
+        doc_safe(&text::series(series, names))
+    );
+    let coefficients: Vec<String> = series.iter().map(|c| value_code(c, idents, roots).0).collect();
+    let used: BTreeSet<usize> = (0..derivation.parameters.len()).collect();
+    let (args, allow) = arguments(&idents[..derivation.parameters.len()], &used);
+    if allow {
+        out.push_str("#[allow(non_snake_case)]\n");
+    }
+    let _ = writeln!(out, "pub fn {fn_name}(lambda: f64{args}) -> f64 {{");
+    let _ = writeln!(out, "    horner(\n        &[");
+    for c in &coefficients {
+        let _ = writeln!(out, "            {c},");
+    }
+    out.push_str("        ],\n        lambda,\n    )\n}\n");
+}
+
+/// One function per term of a model space's operator form, giving its coefficient.
+fn operator_form_functions(
+    out: &mut String,
+    derivation: &Derivation,
+    space_idx: usize,
+    form: &OperatorForm,
+    idents: &[Ident],
+    roots: &mut BTreeSet<u64>,
+) {
+    for term in super::operators::grouped(form) {
+        let suffix: String = term
+            .label
+            .chars()
+            .map(|c| if c.is_ascii_alphanumeric() { c.to_ascii_lowercase() } else { '_' })
+            .collect::<String>()
+            .split('_')
+            .filter(|p| !p.is_empty())
+            .collect::<Vec<_>>()
+            .join("_");
+        let suffix = if suffix == "1" { "identity".to_string() } else { suffix };
+        let fn_name = format!("coefficient_space{}_{suffix}", space_idx + 1);
+        let doc = format!(
+            "The coefficient of `{}` in the effective Hamiltonian of model space {} written in {}:",
+            doc_safe(&term.label),
+            space_idx + 1,
+            match form.target {
+                crate::model::Target::Spins => "spin operators (`S^a = sigma^a/2`)",
+                crate::model::Target::Qubits => "Pauli operators",
+            }
+        );
+        series_function(out, &fn_name, &doc, &term.coefficient, derivation, idents, roots);
+    }
 }
 
 fn header(out: &mut String, model: &Model, derivation: &Derivation, name: &str) {
