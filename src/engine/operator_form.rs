@@ -41,6 +41,9 @@ pub struct OperatorForm {
     pub names: Vec<String>,
     /// The non-zero terms: the identity first, then by number of factors, targets, components.
     pub terms: Vec<OperatorTerm>,
+    /// For each spin or qubit product state (target 0 the highest bit, `1` meaning spin down or
+    /// `|1>`), the model-space basis state it stands for.
+    pub model_state: Vec<usize>,
 }
 
 /// How the states of one declared space enter the targets.
@@ -270,7 +273,7 @@ pub(crate) fn operator_form(
             .collect();
         terms.push(OperatorTerm { factors, coefficient });
     }
-    Ok(OperatorForm { target, names, terms })
+    Ok(OperatorForm { target, names, terms, model_state: preimage })
 }
 
 /// The product-basis index of model-space state `a` (a single product state here).
