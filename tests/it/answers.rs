@@ -301,10 +301,11 @@ proptest::proptest! {
             let e = |s: usize| derivation.model_spaces[s].branches[0].energy.clone();
             let j = value(&derivation, "J");
             let q = &derivation.quantities[0].series;
-            for k in 0..=3 {
-                let expected = e(3)[k].clone() - e(1)[k].clone() * RatFunc::from_i64(2)
-                    + e(2)[k].clone() * &j;
-                proptest::prop_assert_eq!(&q[k], &expected);
+            let (e11, e10, e01) = (e(3), e(1), e(2));
+            for (k, value) in q.iter().enumerate() {
+                let expected =
+                    e11[k].clone() - e10[k].clone() * RatFunc::from_i64(2) + e01[k].clone() * &j;
+                proptest::prop_assert_eq!(value, &expected);
             }
         }
     }
