@@ -10,7 +10,7 @@ use super::text;
 use super::{report, LatexOptions};
 use crate::check;
 use crate::engine::{Branch, Derivation, ModelSpace, Note, SecularEquation};
-use crate::exact::{Field, RatFunc};
+use crate::exact::{Field, RatFunc, Rational};
 use crate::linalg::SparseVec;
 use crate::model::{Basis, Model, SpaceKind};
 use num_traits::One;
@@ -184,14 +184,10 @@ fn introduction(
     out
 }
 
-/// `1st`, `2nd`, `3rd`, `4th`, ... in words a reader expects.
-fn ordinal(k: usize) -> String {
-    match k {
-        1 => "first".into(),
-        2 => "second".into(),
-        3 => "third".into(),
-        _ => format!("{k}th"),
-    }
+/// A rational in math mode: `-\frac{3}{2}`, `2`.
+fn rational_tex(value: &Rational) -> String {
+    let no_names: Vec<String> = Vec::new();
+    inline_value(&terms::fraction(&RatFunc::from_rational(value)), &no_names).text
 }
 
 /// `x^3 - x^2 - 2 x + 1` for rational coefficients, highest power first.
@@ -530,11 +526,13 @@ fn branch_table(out: &mut String, ctx: &SpaceContext<'_>) {
     for r in used {
         let atom = &ctx.roots[r];
         let poly: Vec<RatFunc> = atom.polynomial.iter().map(RatFunc::from_rational).collect();
+        let (lo, hi) = atom.bounds();
         remarks.push(format!(
-            "${}$ is the {} real root of ${} = 0$ ($\\approx {:.10}$).",
+            "${}$ is the real root of ${} = 0$ between ${}$ and ${}$ ($\\approx {:.10}$).",
             symbol(&ctx.names[n_params + r]).text,
-            ordinal(atom.index),
             polynomial_tex(&poly),
+            rational_tex(&lo),
+            rational_tex(&hi),
             atom.approximation().to_f64()
         ));
     }

@@ -74,7 +74,8 @@ pub struct Derivation {
 }
 
 impl Derivation {
-    /// Names of every symbol a value may mention: the parameters, then `root(P, k)` for each root.
+    /// Names of every symbol a value may mention: the parameters, then `root_between(P, lo, hi)`
+    /// for each root.
     pub fn symbol_names(&self) -> Vec<String> {
         let mut names = self.parameters.clone();
         names.extend(self.roots.iter().map(RootAtom::name));
@@ -94,15 +95,60 @@ pub struct RootAtom {
 }
 
 impl RootAtom {
-    /// `root(P, k)` in the contract's syntax.
+    /// `root_between(P, lo, hi)`: the only real root of `P` strictly between the rationals `lo`
+    /// and `hi`, the simplest such bounds (smallest denominators); the model language reads it
+    /// back.
     pub fn name(&self) -> String {
         let p = crate::exact::univariate::UniPoly::new(self.polynomial.clone());
-        format!("root({}, {})", p.display("x"), self.index)
+        let (lo, hi) = self.bounds();
+        format!("root_between({}, {lo}, {hi})", p.display("x"))
+    }
+    /// Simple rational bounds `lo < root < hi` with no other real root of `P` between them.
+    pub fn bounds(&self) -> (Rational, Rational) {
+        let p = crate::exact::univariate::UniPoly::new(self.polynomial.clone());
+        let isolated = crate::exact::roots::isolate_real_roots(&p);
+        let (lo, hi) = self.interval.clone();
+        // The neighbors lie at or below the previous interval's upper end and above the next
+        // interval's lower end.
+        let width = Rational::ratio(1, 1024).expect("non-zero");
+        let near =
+            |k: usize| isolated.get(k).map(|i| crate::exact::roots::refine(&p, i.clone(), &width));
+        let below = self.index.checked_sub(2).and_then(near).map(|i| i.1);
+        let above = near(self.index).map(|i| i.0);
+        (simplest_between(below.as_ref(), &lo, true), simplest_between(above.as_ref(), &hi, false))
     }
     /// The midpoint of the isolating interval, within `2^-80` of the root.
     pub fn approximation(&self) -> Rational {
         (self.interval.0.clone() + &self.interval.1) * Rational::ratio(1, 2).expect("2 != 0")
     }
+}
+
+/// The rational with the smallest denominator (then the smallest numerator) in `(far, near]`
+/// (`lower`) or `[near, far)` (upper), `far` absent meaning unbounded; the root lies strictly
+/// beyond `near` and every other root at or beyond `far`.
+fn simplest_between(far: Option<&Rational>, near: &Rational, lower: bool) -> Rational {
+    use num_bigint::BigInt;
+    use num_integer::Integer;
+    let inside = |q: &Rational| match (far, lower) {
+        (Some(f), true) => q > f && q <= near,
+        (Some(f), false) => q < f && q >= near,
+        (None, true) => q <= near,
+        (None, false) => q >= near,
+    };
+    for d in 1i64..=4096 {
+        let scaled = near.clone() * Rational::from_i64(d);
+        // The candidate nearest the root on the right side: floor below, ceiling above.
+        let n = if lower {
+            scaled.numer().div_floor(scaled.denom())
+        } else {
+            -(-scaled.numer().clone()).div_floor(scaled.denom())
+        };
+        let q = Rational::new(n, BigInt::from(d)).expect("d > 0");
+        if inside(&q) {
+            return q;
+        }
+    }
+    near.clone()
 }
 
 /// The results for one model space.
@@ -581,7 +627,7 @@ fn solve_fields(
             }
         }
         if let Ok(raw) = solve_in(radical, indices, order, ctx) {
-            // A branch written with root(P, k) has its state only in rational functions, where
+            // A branch written with an algebraic root has its state only in rational functions, where
             // the root can stand as a symbol: repeat the model space there to get it.
             let n_params = ctx.n_params;
             let mentions_root = |b: &RawBranch<Radical>| {

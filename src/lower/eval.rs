@@ -185,11 +185,16 @@ impl Scope {
             "sqrt" => ("sqrt", 1),
             "adj" => ("adj", 1),
             "comm" => ("comm", 2),
+            "root_between" => ("root_between", 3),
+            // The spelling of earlier releases, read for one more release.
+            "root" => ("root", 2),
             _ => {
                 return Err(LowerError::UnknownFunction { name: function.name.clone() })
                     .at(function.span)
                     .map_err(|d| {
-                        d.with_hint("the functions are `sqrt`, `adj`, `comm` and `matrix`")
+                        d.with_hint(
+                            "the functions are `sqrt`, `root_between`, `adj`, `comm` and `matrix`",
+                        )
                     })
             }
         };
@@ -213,6 +218,7 @@ impl Scope {
                 }
                 Ok(Value::Scalar(RatFunc::constant(Radical::sqrt_of(&radicand))))
             }
+            "root_between" | "root" => self.eval_root(name, args),
             "adj" => Ok(match self.eval(&args[0])? {
                 Value::Scalar(s) => Value::Scalar(s.conj()),
                 Value::Operator(o) => Value::Operator(o.adjoint()),
@@ -223,6 +229,49 @@ impl Scope {
                 let (a, b) = (self.to_operator(a), self.to_operator(b));
                 Ok(Value::Operator(a.mul(&b).sub(&b.mul(&a))))
             }
+        }
+    }
+
+    /// `root_between(P, lo, hi)`: the only real root of the polynomial `P` in `x` strictly
+    /// between `lo` and `hi`; `root(P, k)`, deprecated, the `k`-th real root ascending. A model
+    /// holds it exactly when square roots write it.
+    fn eval_root(&self, name: &str, args: &[ast::Expr]) -> Result<Value, Diagnostic> {
+        use crate::exact::roots::{self, RootBetween};
+        let poly = poly_in_x(&args[0])?;
+        let rational = |expr: &ast::Expr| -> Result<Rational, Diagnostic> {
+            let value = self.eval(expr)?;
+            self.as_rational(&value)
+                .ok_or(LowerError::Expected { what: "a rational number" })
+                .at(expr.span)
+        };
+        let (lo, hi) = if name == "root" {
+            let k = rational(&args[1])?;
+            let k = k
+                .to_i64()
+                .filter(|k| *k >= 1)
+                .ok_or(LowerError::Expected { what: "the number of a real root, counting from 1" });
+            let k = k.at(args[1].span)?;
+            roots::kth_root_bounds(&poly, k as usize)
+                .ok_or(LowerError::Expected { what: "the polynomial has fewer real roots" })
+                .at(args[1].span)
+                .map_err(|d| {
+                    d.with_hint("`root(P, k)` is deprecated: write root_between(P, lo, hi)")
+                })?
+        } else {
+            (rational(&args[1])?, rational(&args[2])?)
+        };
+        let span = args[0].span.to(args[args.len() - 1].span);
+        match roots::root_between(&poly, &lo, &hi) {
+            RootBetween::Exact(value) => Ok(Value::Scalar(RatFunc::constant(value))),
+            RootBetween::Count(_) => Err(LowerError::Expected {
+                what: "the polynomial must have exactly one real root between the bounds",
+            })
+            .at(span),
+            RootBetween::Degree(_) => Err(LowerError::Expected {
+                what: "this root is an algebraic number of degree 3 or more, which a model \
+                       cannot hold yet (derivations produce such numbers themselves)",
+            })
+            .at(span),
         }
     }
 
@@ -529,4 +578,45 @@ fn edit_distance(a: &str, b: &str) -> usize {
         previous = current;
     }
     previous[b.len()]
+}
+
+/// The polynomial in `x` with rational coefficients that `expr` writes (`x^3 - x^2 - 2*x + 1`),
+/// coefficients from `x^0` up.
+fn poly_in_x(expr: &ast::Expr) -> Result<crate::exact::univariate::UniPoly<Rational>, Diagnostic> {
+    use crate::exact::univariate::UniPoly;
+    let bad = || {
+        Err(LowerError::Expected { what: "a polynomial in `x` with rational coefficients" })
+            .at(expr.span)
+    };
+    Ok(match &expr.kind {
+        ast::ExprKind::Number(text) => UniPoly::constant(parse_number(text).at(expr.span)?),
+        ast::ExprKind::Name(name) if name == "x" => UniPoly::x(),
+        ast::ExprKind::Neg(operand) => -poly_in_x(operand)?,
+        ast::ExprKind::Binary { op, lhs, rhs } => {
+            let left = poly_in_x(lhs)?;
+            match op {
+                ast::BinaryOp::Add => left + poly_in_x(rhs)?,
+                ast::BinaryOp::Sub => left - poly_in_x(rhs)?,
+                ast::BinaryOp::Mul => left * poly_in_x(rhs)?,
+                ast::BinaryOp::Div => {
+                    let divisor = poly_in_x(rhs)?;
+                    match divisor.coeffs() {
+                        [c] if !c.is_zero() => left.scale(&c.inv().expect("non-zero")),
+                        _ => return bad(),
+                    }
+                }
+                ast::BinaryOp::Pow => {
+                    let exponent = poly_in_x(rhs)?;
+                    let k = match exponent.coeffs() {
+                        [c] => c.to_i64().filter(|k| (0..=64).contains(k)),
+                        [] => Some(0),
+                        _ => None,
+                    };
+                    let Some(k) = k else { return bad() };
+                    (0..k).fold(UniPoly::one(), |acc, _| acc * left.clone())
+                }
+            }
+        }
+        _ => return bad(),
+    })
 }

@@ -252,3 +252,26 @@ proptest! {
         prop_assert!(!checked.branches[0].passed, "order {} not caught", k);
     }
 }
+
+/// Issue #9, finding 13: algebraic numbers print as `root_between(P, lo, hi)`, and the model
+/// language reads that spelling back (exactly where square roots write the number) as well as the
+/// deprecated `root(P, k)`.
+#[test]
+fn issue_9_algebraic_numbers_in_our_own_notation() {
+    let text = include_str!("../../examples/dot_trimer.clv");
+    let model = load(text);
+    let derivation = derive(&model, &DeriveOptions::new(1)).expect("derivable");
+    let names: Vec<String> = derivation.roots.iter().map(|r| r.name()).collect();
+    assert!(names.iter().all(|n| n.starts_with("root_between(x^3 ")), "{names:?}");
+    assert!(!cleave::emit::report(&model, &derivation, "m.clv", &Vec::new()).contains("root("));
+    for call in ["root_between(x^2 - 2, 1, 2)", "root(x^2 - 2, 2)"] {
+        let text = format!("space d = levels(A, B)\nH0 = {call} * |A><A|\nV = |A><B| + |B><A|\n");
+        let model = load(&text);
+        let expected = RatFunc::constant(cleave::exact::Radical::sqrt_of(&rational("2")));
+        assert_eq!(model.h0().get(0, 0), expected, "{call}");
+    }
+    // A root of degree 3 is named but cannot enter a model: a located error, not a wrong value.
+    let text = format!("space d = levels(A, B)\nH0 = {} * |A><A|\nV = |A><B| + |B><A|\n", names[0]);
+    let err = cleave::load(&text).err().expect("degree 3 is refused");
+    assert!(err.message.contains("degree 3"), "{}", err.message);
+}

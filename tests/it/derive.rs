@@ -673,7 +673,7 @@ order 2
     assert!(derivation
         .roots
         .iter()
-        .all(|r| r.name().starts_with("root(x^4 - 2*x^3 - 3*x^2 + 4*x + 1, ")));
+        .all(|r| r.name().starts_with("root_between(x^4 - 2*x^3 - 3*x^2 + 4*x + 1, ")));
     let degenerate = &derivation.model_spaces[0];
     assert_eq!(degenerate.branches.len(), 4);
     let n_params = derivation.parameters.len();
@@ -742,8 +742,8 @@ V2 = s*|S1><S1|
     assert_eq!(derivation.roots.len(), 6);
     let mut moduli: Vec<String> = derivation.roots.iter().map(|r| r.name()).collect();
     moduli.sort();
-    assert!(moduli[0].starts_with("root(x^3 + x^2 - 2*x - 1, "));
-    assert!(moduli[5].starts_with("root(x^3 - x^2 - 2*x + 1, "));
+    assert!(moduli[0].starts_with("root_between(x^3 + x^2 - 2*x - 1, "));
+    assert!(moduli[5].starts_with("root_between(x^3 - x^2 - 2*x + 1, "));
     let space = &derivation.model_spaces[0];
     let mut values = vec![1.0, 1.0];
     values.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
