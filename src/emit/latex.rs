@@ -177,10 +177,14 @@ fn introduction(
     if !options.at.is_empty() {
         let _ = write!(out, " Numeric values are given at {}.", at_text(&options.at, names));
     }
-    out.push_str(
-        " The series are truncated at order $N$; for many models they are asymptotic rather than \
-         convergent, so use them only where their terms still decrease.\\par}\n",
-    );
+    if crate::engine::asymptotic_caution_applies(model) {
+        out.push_str(
+            " The series are truncated at order $N$; with an oscillator they are typically \
+             asymptotic rather than convergent, so use them only where their terms still \
+             decrease.",
+        );
+    }
+    out.push_str("\\par}\n");
     out
 }
 

@@ -90,6 +90,13 @@ pub fn report(model: &Model, derivation: &Derivation, name: &str, at: &ParamValu
         let _ = writeln!(out);
         model_space_report(&mut out, model, space, k + 1, &names, at, derivation.order);
     }
+    if crate::engine::asymptotic_caution_applies(model) {
+        let _ = writeln!(
+            out,
+            "\nnote: with an oscillator the series is typically asymptotic, not convergent; use it \
+             only where its terms still decrease (cleave check shows where)."
+        );
+    }
     out
 }
 
@@ -213,13 +220,6 @@ fn model_space_report(
     }
     for note in &space.notes {
         let _ = writeln!(out, "note: {}", note_text(note));
-    }
-    if order >= 6 && d == 1 {
-        let _ = writeln!(
-            out,
-            "note: the series is asymptotic for many models (e.g. anharmonic oscillators); \
-             use it only where its terms still decrease."
-        );
     }
 }
 

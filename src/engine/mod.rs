@@ -32,6 +32,7 @@ use crate::model::Model;
 use crate::spectrum::{self, Spectrum};
 use algebraic::Context;
 use bloch::Problem;
+pub use notes::asymptotic_caution_applies;
 use split::{branches, lift, FieldTooSmall, RawBranch, RawSecular, Stage};
 
 /// The largest order the engine accepts.

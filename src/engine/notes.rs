@@ -4,6 +4,15 @@
 use super::{Note, Solved, Working};
 use crate::model::{Model, SpaceKind};
 
+/// Whether the reader must be told that the series may be asymptotic rather than convergent: a
+/// factor stands for an unbounded ladder (an oscillator, cut at its cutoff), whose perturbation
+/// series typically diverge for every coupling (Bender & Wu, Phys. Rev. 184, 1231, 1969). A
+/// finite few-level model's series converge inside the radius that `cleave check` reports, so
+/// none of them gets the caution. Every emitter decides through this one function.
+pub fn asymptotic_caution_applies(model: &Model) -> bool {
+    model.basis().spaces().iter().any(|space| matches!(space.kind, SpaceKind::Oscillator { .. }))
+}
+
 /// Warns when the wave operator came close enough to the top of a truncated oscillator that the
 /// cut can have changed a coefficient (ENGINE.md §8; the states within the coupling range of the
 /// top lack the couplings of the untruncated operator).

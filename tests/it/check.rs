@@ -134,7 +134,7 @@ V = g * (|A><B| + |B><A|)
     }
 }
 
-/// Issue #9, finding 4: the spin–orbit example at xi = h = 1. The m_j = ±1/2 pairs form 2x2
+/// Issue #9, finding 4: the spin–orbit example at `xi = h = 1`. The `m_j = ±1/2` pairs form 2x2
 /// blocks `[[-1 + a lambda, c lambda], [c lambda, 1/2 + b lambda]]` whose exceptional points lie at
 /// |lambda| = 3/2 (worked out by hand from the discriminant of the block: `(3/2 + (b - a)
 /// lambda)^2 + 4 c^2 lambda^2 = 0` with `b - a = ±1/3`, `c^2 = 2/9`); the root test said 3.42 at
@@ -213,7 +213,7 @@ fn two_level_series(g: &Rational, delta: &Rational, order: usize) -> Vec<Rationa
         binom = binom
             * (half.clone() - Rational::from_i64(k as i64 - 1))
             * Rational::ratio(1, k as i64).expect("k > 0");
-        power = power * &x;
+        power *= &x;
         res[2 * k] = -(delta.clone() * &half) * &binom * &power;
     }
     res
@@ -272,6 +272,26 @@ fn issue_9_algebraic_numbers_in_our_own_notation() {
     }
     // A root of degree 3 is named but cannot enter a model: a located error, not a wrong value.
     let text = format!("space d = levels(A, B)\nH0 = {} * |A><A|\nV = |A><B| + |B><A|\n", names[0]);
-    let err = cleave::load(&text).err().expect("degree 3 is refused");
+    let Err(err) = cleave::load(&text) else { panic!("degree 3 is refused") };
     assert!(err.message.contains("degree 3"), "{}", err.message);
+}
+
+/// Issue #9, finding 8: the asymptotic caution appears where it applies (an oscillator) and not on
+/// a finite few-level model, whose series converge inside their radius.
+#[test]
+fn issue_9_asymptotic_caution_only_where_it_applies() {
+    let report = |text: &str, order: u32| {
+        let model = load(text);
+        let derivation = derive(&model, &DeriveOptions::new(order)).expect("derivable");
+        let options = cleave::emit::LatexOptions { standalone: false, at: Vec::new() };
+        let latex = cleave::emit::latex(&model, &derivation, "m.clv", &options);
+        let rust = cleave::emit::rust(&model, &derivation, "m.clv");
+        [cleave::emit::report(&model, &derivation, "m.clv", &Vec::new()), latex, rust]
+    };
+    for text in report(SPIN_ORBIT, 8) {
+        assert!(!text.contains("asymptotic"), "{text}");
+    }
+    for text in report(include_str!("../../examples/quartic_oscillator.clv"), 8) {
+        assert!(text.contains("asymptotic"), "{text}");
+    }
 }
