@@ -248,10 +248,21 @@ fn numeric_suffix(value: &RatFunc, names: &[String], at: &ParamValues) -> String
 /// A note as one sentence.
 pub(crate) fn note_text(note: &Note) -> String {
     match note {
-        Note::Truncation { space, n_states, first_affected, sufficient } => format!(
-            "the oscillator {space} is cut at {n_states} states and the wave operator reached its \
-             top states: coefficients from order {first_affected} on may differ from the \
-             untruncated oscillator's; oscillator({sufficient}) makes every reported coefficient exact"
-        ),
+        Note::Truncation { space, n_states, energies_from, states_from, sufficient } => {
+            let mut affected = Vec::new();
+            if let Some(k) = energies_from {
+                affected.push(format!("the energies from order {k} on"));
+            }
+            if let Some(m) = states_from {
+                affected.push(format!("the state corrections from order {m} on"));
+            }
+            format!(
+                "the oscillator {space} is cut at {n_states} states and the wave operator came \
+                 within reach of its top: {} may differ from the untruncated oscillator's (those \
+                 of lower order are its exact ones); oscillator({sufficient}) makes every reported \
+                 coefficient exact",
+                affected.join(" and ")
+            )
+        }
     }
 }

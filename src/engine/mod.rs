@@ -245,15 +245,19 @@ pub struct NotSplit {
 /// Something the reader must know about a model space's results.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub enum Note {
-    /// The wave operator reached the top Fock states of a truncated oscillator, so coefficients
-    /// from order `first_affected` on may differ from those of the untruncated oscillator.
+    /// The wave operator came within the coupling range of the top of a truncated ladder (an
+    /// oscillator cut at its cutoff), so some reported coefficients may differ from those of the
+    /// untruncated ladder: the energies from `energies_from` on and the state corrections from
+    /// `states_from` on (either absent when none of those reported is affected).
     Truncation {
-        /// The oscillator's space name.
+        /// The space's name.
         space: String,
         /// Its number of states.
         n_states: usize,
-        /// The lowest energy order that the cut can have changed.
-        first_affected: u32,
+        /// The lowest energy order the cut can have changed, if it is reported.
+        energies_from: Option<u32>,
+        /// The lowest order of state corrections the cut can have changed, if it is reported.
+        states_from: Option<u32>,
         /// A number of states that makes every reported coefficient exact.
         sufficient: usize,
     },
@@ -743,7 +747,7 @@ fn solve_model_space(
             }
         })
         .collect();
-    let notes = notes::truncation_notes(model, working, &solved, order);
+    let notes = notes::truncation_notes(model, working, &solved, order, states_to);
     ModelSpace {
         unperturbed: levels.iter().map(|&l| spectrum.levels[l].energy.clone()).collect(),
         basis,

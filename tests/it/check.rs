@@ -295,3 +295,50 @@ fn issue_9_asymptotic_caution_only_where_it_applies() {
         assert!(text.contains("asymptotic"), "{text}");
     }
 }
+
+/// Issue #9, finding 7: the truncation note says which coefficients the cut can change, energies
+/// and states apart, and every coefficient it does not name equals that of a cutoff large enough
+/// to need no note (checked against `oscillator(40)`, a snapshot of this project's own values
+/// whose ground energies are Bender & Wu's, Phys. Rev. 184, 1231, 1969: 1/2, 3/4, -21/8, 333/16,
+/// -30885/128).
+#[test]
+fn issue_9_truncation_note_names_what_the_cut_can_change() {
+    use cleave::engine::Note;
+    let text = |n: usize| {
+        format!(
+            "space q = oscillator({n})\nlet x = (q.lower + q.raise) / sqrt(2)\nH0 = q.n + 1/2\n\
+             V = x^4\nfocus 1/2\n"
+        )
+    };
+    let options = DeriveOptions { order: 4, states: Some(4) };
+    let reference = derive(&load(&text(40)), &options).expect("derivable");
+    let reference = &reference.model_spaces[0].branches[0];
+    assert!(reference.energy[4] == RatFunc::from_rational(&rational("-30885/128")));
+    for n in 8..=18 {
+        let derivation = derive(&load(&text(n)), &options).expect("derivable");
+        let space = &derivation.model_spaces[0];
+        let branch = &space.branches[0];
+        let (energies_from, states_from, sufficient) = match space.notes.first() {
+            Some(Note::Truncation { energies_from, states_from, sufficient, .. }) => {
+                (energies_from.unwrap_or(5), states_from.unwrap_or(5), *sufficient)
+            }
+            None => (5, 5, 0),
+        };
+        assert!(sufficient <= 17, "n = {n}: sufficient {sufficient}");
+        for k in 0..energies_from as usize {
+            assert_eq!(branch.energy[k], reference.energy[k], "n = {n}: E^({k}) not exact");
+        }
+        let (state, exact) = (branch.state.as_ref().expect("a state"), reference.state.as_ref());
+        for m in 0..states_from as usize {
+            let exact = &exact.expect("a state").coefficients[m];
+            assert_eq!(&state.coefficients[m], exact, "n = {n}: psi^({m}) not exact");
+        }
+    }
+    // With 8 states E^(3) is still exact (the old note said "from order 3 on") and E^(4) is not.
+    let derivation = derive(&load(&text(8)), &options).expect("derivable");
+    let Some(Note::Truncation { energies_from, .. }) = derivation.model_spaces[0].notes.first()
+    else {
+        panic!("no note with 8 states")
+    };
+    assert_eq!(*energies_from, Some(4));
+}
