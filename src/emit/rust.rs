@@ -216,7 +216,8 @@ fn branch_function(
     idents: &[Ident],
     roots: &mut BTreeSet<u64>,
 ) -> Vec<usize> {
-    let names = &text::Names::plain(derivation.symbol_names());
+    // The report's names, with the unperturbed energy differences it factors over.
+    let names = &text::Names::for_derivation(derivation);
     let d = space.basis.len();
     let split = match (&branch.not_split, branch.split_at) {
         (Some(ns), _) => format!("not split at order {}", ns.order),
@@ -252,7 +253,7 @@ fn branch_function(
     }
     caution(out, derivation, name, space);
     let coefficients: Vec<String> =
-        branch.energy.iter().map(|c| value_code(c, idents, roots).0).collect();
+        branch.energy.iter().map(|c| value_code(c, idents, roots, names).0).collect();
     let used = used_params(branch.energy.iter());
     let (args, allow) = arguments(&idents[..derivation.parameters.len()], &used);
     if allow {
@@ -278,7 +279,8 @@ fn hamiltonian_function(
     idents: &[Ident],
     roots: &mut BTreeSet<u64>,
 ) {
-    let names = &text::Names::plain(derivation.symbol_names());
+    // The report's names, with the unperturbed energy differences it factors over.
+    let names = &text::Names::for_derivation(derivation);
     let d = space.basis.len();
     let _ = writeln!(
         out,
@@ -316,7 +318,7 @@ fn hamiltonian_function(
             for matrix in &space.effective_hamiltonian {
                 let value = matrix.get(a, b);
                 all_values.push(value);
-                let (r, i) = value_code(value, idents, roots);
+                let (r, i) = value_code(value, idents, roots, names);
                 re.push(r);
                 im.push(i);
             }
@@ -432,7 +434,15 @@ fn is_sqrt_const(name: &str) -> bool {
 }
 
 /// `(re, im)` code of a value; either is `0.0` when that part vanishes.
-fn value_code(value: &RatFunc, idents: &[Ident], roots: &mut BTreeSet<u64>) -> (String, String) {
+fn value_code(
+    value: &RatFunc,
+    idents: &[Ident],
+    roots: &mut BTreeSet<u64>,
+    names: &text::Names,
+) -> (String, String) {
+    if let Some(code) = factored_code(value, idents, roots, names) {
+        return (code, "0.0".to_string());
+    }
     let fraction = terms::fraction(value);
     for atom in fraction.numer.iter().chain(&fraction.denom) {
         if atom.root != 1 {
@@ -463,6 +473,68 @@ fn value_code(value: &RatFunc, idents: &[Ident], roots: &mut BTreeSet<u64>) -> (
         format!("{{ {bind} (nr * dr + ni * di) / norm }}"),
         format!("{{ {bind} (ni * dr - nr * di) / norm }}"),
     )
+}
+
+/// A real value in the report's factored form, `-4.0 / 27.0 * h.powi(2) / xi` or
+/// `g.powi(4) * (w + delta) / (w * (2.0 * w + delta).powi(3))`: fewer operations and better
+/// rounding than the expanded denominator; `None` where the report does not factor it.
+fn factored_code(
+    value: &RatFunc,
+    idents: &[Ident],
+    roots: &mut BTreeSet<u64>,
+    names: &text::Names,
+) -> Option<String> {
+    let parts = text::factor_value(value, names)?;
+    if parts.radicand < 0 {
+        return None;
+    }
+    let poly_code = |(p, e): &(crate::exact::Poly, u32)| -> Option<String> {
+        let atoms = terms::atoms(p);
+        if atoms.iter().any(|a| a.imaginary || a.root != 1) {
+            return None;
+        }
+        let code = sum_code(&atoms, idents);
+        let code = if atoms.len() > 1 { format!("({code})") } else { code };
+        Some(if *e == 1 { code } else { format!("{code}.powi({e})") })
+    };
+    let mut top: Vec<String> = Vec::new();
+    if !parts.constant.is_one() || (parts.radicand == 1 && parts.numer.is_empty()) {
+        top.push(rational_literal(&parts.constant));
+    }
+    if parts.radicand != 1 {
+        roots.insert(parts.radicand.unsigned_abs());
+        top.push(format!("SQRT_{}", parts.radicand));
+    }
+    for f in &parts.numer {
+        top.push(poly_code(f)?);
+    }
+    let bottom: Vec<String> = parts.denom.iter().map(poly_code).collect::<Option<_>>()?;
+    let mut code = String::new();
+    if parts.negative {
+        code.push('-');
+    }
+    // The rational literal may itself be `a / b`: keep it first so `/` binds as intended.
+    code.push_str(&top.join(" * "));
+    match bottom.as_slice() {
+        [] => {}
+        [single] if !spaced_outside_parentheses(single) => code.push_str(&format!(" / {single}")),
+        _ => code.push_str(&format!(" / ({})", bottom.join(" * "))),
+    }
+    Some(code)
+}
+
+/// Whether `code` has a space outside parentheses (so it is not one factor).
+fn spaced_outside_parentheses(code: &str) -> bool {
+    let mut depth = 0i32;
+    for ch in code.chars() {
+        match ch {
+            '(' => depth += 1,
+            ')' => depth -= 1,
+            ' ' if depth == 0 => return true,
+            _ => {}
+        }
+    }
+    false
 }
 
 /// `numer / denom` with the parentheses precedence needs, `0.0` for a zero numerator.

@@ -342,3 +342,19 @@ fn issue_9_truncation_note_names_what_the_cut_can_change() {
     };
     assert_eq!(*energies_from, Some(4));
 }
+
+/// Issue #9, finding 11: the emitted Rust writes denominators factored as the report does, and
+/// its doc comments show the report's forms (the numbers themselves are compared with the exact
+/// series by the emitter tests, which compile every example).
+#[test]
+fn issue_9_rust_uses_the_reports_factored_forms() {
+    let text = include_str!("../../examples/qubit_resonator.clv");
+    let model = load(text);
+    let derivation = derive(&model, &DeriveOptions::new(4)).expect("derivable");
+    let rust = cleave::emit::rust(&model, &derivation, "m.clv");
+    let report = cleave::emit::report(&model, &derivation, "m.clv", &Vec::new());
+    assert!(report.contains("-g^4*(w + delta)/(w*(2*w + delta)^3)"));
+    assert!(rust.contains("-g^4*(w + delta)/(w*(2*w + delta)^3)"), "doc comment differs");
+    assert!(rust.contains("-g.powi(4) * (w + delta) / (w * (2.0 * w + delta).powi(3))"), "{rust}");
+    assert!(!rust.contains("w.powi(4)"), "an expanded denominator is left:\n{rust}");
+}
