@@ -79,13 +79,16 @@ struct OperatorTermJson {
     coefficient: Vec<String>,
 }
 
-/// An algebraic number that values write as `root(P, k)`.
+/// An algebraic number that values write as `root_between(P, lo, hi)`.
 #[derive(Serialize)]
 struct RootJson {
     name: String,
     /// Coefficients of the monic `P`, from `x^0` up.
     polynomial: Vec<String>,
+    /// Which real root of `P`, counting from 1 in ascending order.
     index: usize,
+    /// `lo` and `hi` of the name: the root is the only one of `P` strictly between them.
+    between: [String; 2],
     approximation: f64,
 }
 
@@ -148,7 +151,7 @@ fn is_true(value: &bool) -> bool {
     *value
 }
 
-/// The JSON of `cleave derive --json`: the contract's fields, plus `roots` (the `root(P, k)` values
+/// The JSON of `cleave derive --json`: the contract's fields, plus `roots` (the `root_between(P, lo, hi)` values
 /// mention, when there are any), `secular_equations`, `notes`, and per branch its `state` and,
 /// where the reduction stopped, `not_split`.
 pub fn json(model: &Model, derivation: &Derivation) -> String {
@@ -164,6 +167,10 @@ pub fn json(model: &Model, derivation: &Derivation) -> String {
                 name: r.name(),
                 polynomial: r.polynomial.iter().map(ToString::to_string).collect(),
                 index: r.index,
+                between: {
+                    let (lo, hi) = r.bounds();
+                    [lo.to_string(), hi.to_string()]
+                },
                 approximation: r.approximation().to_f64(),
             })
             .collect(),

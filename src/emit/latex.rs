@@ -10,7 +10,7 @@ use super::text;
 use super::{report, LatexOptions};
 use crate::check;
 use crate::engine::{Branch, Derivation, ModelSpace, Note, OperatorForm, SecularEquation};
-use crate::exact::{Field, RatFunc};
+use crate::exact::{Field, RatFunc, Rational};
 use crate::linalg::SparseVec;
 use crate::model::{Basis, LabelField, Model, Target};
 use num_traits::One;
@@ -194,21 +194,21 @@ fn introduction(
     if !options.at.is_empty() {
         let _ = write!(out, " Numeric values are given at {}.", at_text(&options.at, names));
     }
-    out.push_str(
-        " The series are truncated at order $N$; for many models they are asymptotic rather than \
-         convergent, so use them only where their terms still decrease.\\par}\n",
-    );
+    if crate::engine::asymptotic_caution_applies(model) {
+        out.push_str(
+            " The series are truncated at order $N$; with an oscillator they are typically \
+             asymptotic rather than convergent, so use them only where their terms still \
+             decrease.",
+        );
+    }
+    out.push_str("\\par}\n");
     out
 }
 
-/// `1st`, `2nd`, `3rd`, `4th`, ... in words a reader expects.
-fn ordinal(k: usize) -> String {
-    match k {
-        1 => "first".into(),
-        2 => "second".into(),
-        3 => "third".into(),
-        _ => format!("{k}th"),
-    }
+/// A rational in math mode: `-\frac{3}{2}`, `2`.
+fn rational_tex(value: &Rational) -> String {
+    let no_names: Vec<String> = Vec::new();
+    inline_value(&terms::fraction(&RatFunc::from_rational(value)), &no_names).text
 }
 
 /// `x^3 - x^2 - 2 x + 1` for rational coefficients, highest power first.
@@ -551,11 +551,13 @@ fn branch_table(out: &mut String, ctx: &SpaceContext<'_>) {
     for r in used {
         let atom = &ctx.roots[r];
         let poly: Vec<RatFunc> = atom.polynomial.iter().map(RatFunc::from_rational).collect();
+        let (lo, hi) = atom.bounds();
         remarks.push(format!(
-            "${}$ is the {} real root of ${} = 0$ ($\\approx {:.10}$).",
+            "${}$ is the real root of ${} = 0$ between ${}$ and ${}$ ($\\approx {:.10}$).",
             symbol(&ctx.names[n_params + r]).text,
-            ordinal(atom.index),
             polynomial_tex(&poly),
+            rational_tex(&lo),
+            rational_tex(&hi),
             atom.approximation().to_f64()
         ));
     }

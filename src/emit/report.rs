@@ -102,6 +102,13 @@ pub fn report(model: &Model, derivation: &Derivation, name: &str, at: &ParamValu
             }
         }
     }
+    if crate::engine::asymptotic_caution_applies(model) {
+        let _ = writeln!(
+            out,
+            "\nnote: with an oscillator or a rotor the series is typically asymptotic, not \
+             convergent; use it only where its terms still decrease (cleave check shows where)."
+        );
+    }
     out
 }
 
@@ -256,13 +263,6 @@ fn model_space_report(
     for note in &space.notes {
         let _ = writeln!(out, "note: {}", note_text(note));
     }
-    if order >= 6 && d == 1 {
-        let _ = writeln!(
-            out,
-            "note: the series is asymptotic for many models (e.g. anharmonic oscillators); \
-             use it only where its terms still decrease."
-        );
-    }
 }
 
 fn matrix(out: &mut String, k: usize, m: &DenseMatrix<RatFunc>, names: &text::Names) {
@@ -290,10 +290,20 @@ fn numeric_suffix(value: &RatFunc, names: &[String], at: &ParamValues) -> String
 /// A note as one sentence.
 pub(crate) fn note_text(note: &Note) -> String {
     match note {
-        Note::Truncation { space, cut, first_affected, sufficient } => format!(
-            "the space {space} = {cut} is cut off and the wave operator reached its top states: \
-             coefficients from order {first_affected} on may differ from those of the uncut space; \
-             {sufficient} makes every reported coefficient exact"
-        ),
+        Note::Truncation { space, cut, energies_from, states_from, sufficient } => {
+            let mut affected = Vec::new();
+            if let Some(k) = energies_from {
+                affected.push(format!("the energies from order {k} on"));
+            }
+            if let Some(m) = states_from {
+                affected.push(format!("the state corrections from order {m} on"));
+            }
+            format!(
+                "the space {space} = {cut} is cut off and the wave operator came within reach of \
+                 its top: {} may differ from those of the uncut space (those of lower order are \
+                 exact); {sufficient} makes every reported coefficient exact",
+                affected.join(" and ")
+            )
+        }
     }
 }

@@ -31,10 +31,6 @@ impl Deref for Names {
 }
 
 impl Names {
-    /// Names only; values print in the canonical expanded form.
-    pub(crate) fn plain(list: Vec<String>) -> Names {
-        Names { list, factors: Vec::new() }
-    }
     /// The symbols of a derivation, factoring over its unperturbed energy differences.
     pub(crate) fn for_derivation(derivation: &Derivation) -> Names {
         Names::with_spectrum(derivation.symbol_names(), &derivation.spectrum)

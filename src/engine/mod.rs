@@ -37,6 +37,7 @@ use crate::model::Model;
 use crate::spectrum::{self, Spectrum};
 use algebraic::Context;
 use bloch::Problem;
+pub use notes::asymptotic_caution_applies;
 use split::{branches, lift, FieldTooSmall, RawBranch, RawSecular, Stage};
 
 pub use crate::model::MAX_ORDER;
@@ -80,7 +81,8 @@ pub struct Derivation {
 }
 
 impl Derivation {
-    /// Names of every symbol a value may mention: the parameters, then `root(P, k)` for each root.
+    /// Names of every symbol a value may mention: the parameters, then `root_between(P, lo, hi)`
+    /// for each root.
     pub fn symbol_names(&self) -> Vec<String> {
         let mut names = self.parameters.clone();
         names.extend(self.roots.iter().map(RootAtom::name));
@@ -100,15 +102,60 @@ pub struct RootAtom {
 }
 
 impl RootAtom {
-    /// `root(P, k)` in the contract's syntax.
+    /// `root_between(P, lo, hi)`: the only real root of `P` strictly between the rationals `lo`
+    /// and `hi`, the simplest such bounds (smallest denominators); the model language reads it
+    /// back.
     pub fn name(&self) -> String {
         let p = crate::exact::univariate::UniPoly::new(self.polynomial.clone());
-        format!("root({}, {})", p.display("x"), self.index)
+        let (lo, hi) = self.bounds();
+        format!("root_between({}, {lo}, {hi})", p.display("x"))
+    }
+    /// Simple rational bounds `lo < root < hi` with no other real root of `P` between them.
+    pub fn bounds(&self) -> (Rational, Rational) {
+        let p = crate::exact::univariate::UniPoly::new(self.polynomial.clone());
+        let isolated = crate::exact::roots::isolate_real_roots(&p);
+        let (lo, hi) = self.interval.clone();
+        // The neighbors lie at or below the previous interval's upper end and above the next
+        // interval's lower end.
+        let width = Rational::ratio(1, 1024).expect("non-zero");
+        let near =
+            |k: usize| isolated.get(k).map(|i| crate::exact::roots::refine(&p, i.clone(), &width));
+        let below = self.index.checked_sub(2).and_then(near).map(|i| i.1);
+        let above = near(self.index).map(|i| i.0);
+        (simplest_between(below.as_ref(), &lo, true), simplest_between(above.as_ref(), &hi, false))
     }
     /// The midpoint of the isolating interval, within `2^-80` of the root.
     pub fn approximation(&self) -> Rational {
         (self.interval.0.clone() + &self.interval.1) * Rational::ratio(1, 2).expect("2 != 0")
     }
+}
+
+/// The rational with the smallest denominator (then the smallest numerator) in `(far, near]`
+/// (`lower`) or `[near, far)` (upper), `far` absent meaning unbounded; the root lies strictly
+/// beyond `near` and every other root at or beyond `far`.
+fn simplest_between(far: Option<&Rational>, near: &Rational, lower: bool) -> Rational {
+    use num_bigint::BigInt;
+    use num_integer::Integer;
+    let inside = |q: &Rational| match (far, lower) {
+        (Some(f), true) => q > f && q <= near,
+        (Some(f), false) => q < f && q >= near,
+        (None, true) => q <= near,
+        (None, false) => q >= near,
+    };
+    for d in 1i64..=4096 {
+        let scaled = near.clone() * Rational::from_i64(d);
+        // The candidate nearest the root on the right side: floor below, ceiling above.
+        let n = if lower {
+            scaled.numer().div_floor(scaled.denom())
+        } else {
+            -(-scaled.numer().clone()).div_floor(scaled.denom())
+        };
+        let q = Rational::new(n, BigInt::from(d)).expect("d > 0");
+        if inside(&q) {
+            return q;
+        }
+    }
+    near.clone()
 }
 
 /// The results for one model space.
@@ -212,16 +259,19 @@ pub struct NotSplit {
 /// Something the reader must know about a model space's results.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub enum Note {
-    /// The wave operator reached the top states of a space that stands for a larger one cut off
-    /// (an oscillator, a rotor), so coefficients from order `first_affected` on may differ from
-    /// those of the uncut space.
+    /// The wave operator came within the coupling range of the top of a space that stands for a
+    /// larger one cut off (an oscillator, a rotor), so some reported coefficients may differ from
+    /// those of the uncut space: the energies from `energies_from` on and the state corrections
+    /// from `states_from` on (either absent when none of those reported is affected).
     Truncation {
         /// The space's name.
         space: String,
         /// Its declaration: `oscillator(40)`, `rotor(4)`.
         cut: String,
-        /// The lowest energy order that the cut can have changed.
-        first_affected: u32,
+        /// The lowest energy order the cut can have changed, if it is reported.
+        energies_from: Option<u32>,
+        /// The lowest order of state corrections the cut can have changed, if it is reported.
+        states_from: Option<u32>,
         /// A declaration of the same space that makes every reported coefficient exact.
         sufficient: String,
     },
@@ -637,7 +687,7 @@ fn solve_fields(
             }
         }
         if let Ok(raw) = solve_in(radical, indices, order, ctx) {
-            // A branch written with root(P, k) has its state only in rational functions, where
+            // A branch written with an algebraic root has its state only in rational functions, where
             // the root can stand as a symbol: repeat the model space there to get it.
             let n_params = ctx.n_params;
             let mentions_root = |b: &RawBranch<Radical>| {
@@ -766,7 +816,7 @@ fn solve_model_space(
             }
         })
         .collect();
-    let notes = notes::truncation_notes(model, working, &solved, order);
+    let notes = notes::truncation_notes(model, working, &solved, order, states_to);
     ModelSpace {
         unperturbed: levels.iter().map(|&l| spectrum.levels[l].energy.clone()).collect(),
         basis,

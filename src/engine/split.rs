@@ -23,7 +23,7 @@ pub(crate) struct Stage<F> {
 #[derive(Clone, Debug)]
 pub(crate) struct RawBranch<F> {
     /// Energy coefficients from `lambda^0` up; shorter than the stage when it did not split.
-    /// Written as rational functions, in which algebraic roots (`root(P, k)`) appear as extra
+    /// Written as rational functions, in which algebraic roots (`root_between(P, lo, hi)`) appear as extra
     /// symbols.
     pub energy: Vec<RatFunc>,
     /// How many states stay together at the last order computed.

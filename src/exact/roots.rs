@@ -351,3 +351,120 @@ mod tests {
         }
     }
 }
+
+/// The real root of a rational polynomial named by `root_between(P, lo, hi)`, as far as it can be
+/// written exactly.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum RootBetween {
+    /// The root, rational or a quadratic irrationality.
+    Exact(super::Radical),
+    /// Its minimal polynomial has this degree (3 or more): no square roots write it.
+    Degree(usize),
+    /// `P` has this many real roots strictly between the bounds, not one.
+    Count(usize),
+}
+
+/// The number of real roots of the square-free `q` strictly between `lo` and `hi`.
+fn count_between(
+    seq: &[UniPoly<Rational>],
+    q: &UniPoly<Rational>,
+    lo: &Rational,
+    hi: &Rational,
+) -> usize {
+    if lo >= hi {
+        return 0;
+    }
+    // Sturm counts the roots in (lo, hi]; a root at hi itself is not strictly inside.
+    let count = sign_changes(seq, lo).saturating_sub(sign_changes(seq, hi));
+    count - usize::from(q.eval(hi).is_zero() && count > 0)
+}
+
+/// The only real root of `p` strictly between `lo` and `hi`: exact when it is rational or a root of
+/// a quadratic factor of `p` (the quadratic formula), otherwise the degree of its factor.
+pub fn root_between(p: &UniPoly<Rational>, lo: &Rational, hi: &Rational) -> RootBetween {
+    let q = p.square_free_part();
+    if q.degree().unwrap_or(0) == 0 {
+        return RootBetween::Count(0);
+    }
+    let seq = sturm_sequence(&q);
+    let count = count_between(&seq, &q, lo, hi);
+    if count != 1 {
+        return RootBetween::Count(count);
+    }
+    for (r, _) in q.rational_roots() {
+        if &r > lo && &r < hi {
+            return RootBetween::Exact(super::Radical::from(r));
+        }
+    }
+    // The irreducible factor holding the root: rational factors where every root is real, else
+    // the polynomial with its rational roots divided out.
+    let factor = match rational_factors(&q) {
+        Some(factors) => factors.into_iter().find(|f| {
+            let s = sturm_sequence(f);
+            f.degree().unwrap_or(0) > 0 && count_between(&s, f, lo, hi) == 1
+        }),
+        None => {
+            let mut rest = q.clone();
+            for (r, _) in q.rational_roots() {
+                rest = rest.deflate(&r).unwrap_or(rest);
+            }
+            Some(rest)
+        }
+    };
+    let Some(factor) = factor.map(|f| f.monic()) else { return RootBetween::Degree(0) };
+    let degree = factor.degree().unwrap_or(0);
+    if degree != 2 {
+        return RootBetween::Degree(degree);
+    }
+    // x^2 + b x + c: (-b +- sqrt(b^2 - 4c)) / 2, the sign chosen by the side of the vertex -b/2.
+    let (c, b) = (factor.coeffs()[0].clone(), factor.coeffs()[1].clone());
+    let half = Rational::ratio(1, 2).expect("2 != 0");
+    let vertex = -(b.clone() * &half);
+    let disc = b.clone() * &b - Rational::from_i64(4) * &c;
+    let s = sturm_sequence(&factor);
+    let below = count_between(&s, &factor, lo, &vertex) == 1;
+    let root = super::Radical::sqrt_of(&disc).scale(&half);
+    let root = if below { -root } else { root };
+    RootBetween::Exact(super::Radical::from(vertex) + root)
+}
+
+/// Bounds `(lo, hi)` around the `k`-th real root of `p` (1-based, ascending) with no other root
+/// between them, for the deprecated spelling `root(P, k)`.
+pub fn kth_root_bounds(p: &UniPoly<Rational>, k: usize) -> Option<(Rational, Rational)> {
+    let isolated = isolate_real_roots(p);
+    let (lo, hi) = isolated.get(k.checked_sub(1)?)?.clone();
+    // (lo, hi] holds the root; hi may be the root itself only when it is rational.
+    let q = p.square_free_part();
+    if q.eval(&hi).is_zero() {
+        let width = (hi.clone() - &lo) * Rational::ratio(1, 2).expect("2 != 0");
+        return Some((lo, hi + width));
+    }
+    Some((lo, hi))
+}
+
+#[cfg(test)]
+mod root_between_tests {
+    use super::*;
+
+    fn poly(coeffs: &[i64]) -> UniPoly<Rational> {
+        UniPoly::new(coeffs.iter().map(|c| Rational::from_i64(*c)).collect())
+    }
+
+    /// `x^2 - 2` between 1 and 2 is `sqrt(2)`, between -2 and -1 it is `-sqrt(2)`; `x^3 - x^2 -
+    /// 2x + 1` (roots 2 cos(k pi / 7)) has degree 3 and one root between 0 and 1.
+    #[test]
+    fn quadratic_and_cubic() {
+        let two = Rational::from_i64(2);
+        let sqrt2 = super::super::Radical::sqrt_of(&two);
+        let (one, m1, m2) = (Rational::from_i64(1), Rational::from_i64(-1), Rational::from_i64(-2));
+        assert_eq!(root_between(&poly(&[-2, 0, 1]), &one, &two), RootBetween::Exact(sqrt2.clone()));
+        assert_eq!(root_between(&poly(&[-2, 0, 1]), &m2, &m1), RootBetween::Exact(-sqrt2));
+        let cubic = poly(&[1, -2, -1, 1]);
+        assert_eq!(root_between(&cubic, &Rational::from_i64(0), &one), RootBetween::Degree(3));
+        assert_eq!(root_between(&cubic, &m2, &two), RootBetween::Count(3));
+        assert_eq!(
+            root_between(&poly(&[-3, 1]), &one, &Rational::from_i64(4)),
+            RootBetween::Exact(super::super::Radical::from(Rational::from_i64(3)))
+        );
+    }
+}

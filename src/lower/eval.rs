@@ -412,13 +412,16 @@ impl Scope {
             "comm" => ("comm", 2),
             "cg" => ("cg", 6),
             "threej" => ("threej", 6),
+            "root_between" => ("root_between", 3),
+            // The spelling of earlier releases, read for one more release.
+            "root" => ("root", 2),
             _ => {
                 return Err(LowerError::UnknownFunction { name: function.name.clone() })
                     .at(function.span)
                     .map_err(|d| {
                         d.with_hint(
                             "the functions are `sqrt`, `dagger` (also `adj`), `comm`, `cg`, \
-                             `threej`, `sum` and `matrix`",
+                             `threej`, `root_between`, `sum` and `matrix`",
                         )
                     })
             }
@@ -471,6 +474,7 @@ impl Scope {
                     res.map_err(|e| LowerError::Coupling { why: e.to_string() }).at(span)?;
                 Ok(Value::Scalar(RatFunc::constant(value)))
             }
+            "root_between" | "root" => self.eval_root(name, args),
             _ => {
                 let a = self.eval(&args[0])?;
                 let b = self.eval(&args[1])?;
@@ -498,6 +502,49 @@ impl Scope {
             );
         }
         Ok(idx)
+    }
+
+    /// `root_between(P, lo, hi)`: the only real root of the polynomial `P` in `x` strictly
+    /// between `lo` and `hi`; `root(P, k)`, deprecated, the `k`-th real root ascending. A model
+    /// holds it exactly when square roots write it.
+    fn eval_root(&self, name: &str, args: &[ast::Expr]) -> Result<Value, Diagnostic> {
+        use crate::exact::roots::{self, RootBetween};
+        let poly = poly_in_x(&args[0])?;
+        let rational = |expr: &ast::Expr| -> Result<Rational, Diagnostic> {
+            let value = self.eval(expr)?;
+            self.as_rational(&value)
+                .ok_or(LowerError::Expected { what: "a rational number" })
+                .at(expr.span)
+        };
+        let (lo, hi) = if name == "root" {
+            let k = rational(&args[1])?;
+            let k = k
+                .to_i64()
+                .filter(|k| *k >= 1)
+                .ok_or(LowerError::Expected { what: "the number of a real root, counting from 1" });
+            let k = k.at(args[1].span)?;
+            roots::kth_root_bounds(&poly, k as usize)
+                .ok_or(LowerError::Expected { what: "the polynomial has fewer real roots" })
+                .at(args[1].span)
+                .map_err(|d| {
+                    d.with_hint("`root(P, k)` is deprecated: write root_between(P, lo, hi)")
+                })?
+        } else {
+            (rational(&args[1])?, rational(&args[2])?)
+        };
+        let span = args[0].span.to(args[args.len() - 1].span);
+        match roots::root_between(&poly, &lo, &hi) {
+            RootBetween::Exact(value) => Ok(Value::Scalar(RatFunc::constant(value))),
+            RootBetween::Count(_) => Err(LowerError::Expected {
+                what: "the polynomial must have exactly one real root between the bounds",
+            })
+            .at(span),
+            RootBetween::Degree(_) => Err(LowerError::Expected {
+                what: "this root is an algebraic number of degree 3 or more, which a model \
+                       cannot hold yet (derivations produce such numbers themselves)",
+            })
+            .at(span),
+        }
     }
 
     fn eval_matrix(
@@ -862,4 +909,46 @@ fn edit_distance(a: &str, b: &str) -> usize {
         previous = current;
     }
     previous[b.len()]
+}
+
+/// The polynomial in `x` with rational coefficients that `expr` writes (`x^3 - x^2 - 2*x + 1`),
+/// coefficients from `x^0` up.
+fn poly_in_x(expr: &ast::Expr) -> Result<crate::exact::univariate::UniPoly<Rational>, Diagnostic> {
+    use crate::exact::univariate::UniPoly;
+    let bad = || {
+        Err(LowerError::Expected { what: "a polynomial in `x` with rational coefficients" })
+            .at(expr.span)
+    };
+    Ok(match &expr.kind {
+        ast::ExprKind::Number(text) => UniPoly::constant(parse_number(text).at(expr.span)?),
+        ast::ExprKind::Name(name) if name == "x" => UniPoly::x(),
+        ast::ExprKind::Neg(operand) => -poly_in_x(operand)?,
+        ast::ExprKind::Binary { op, lhs, rhs } => {
+            let left = poly_in_x(lhs)?;
+            match op {
+                ast::BinaryOp::Add => left + poly_in_x(rhs)?,
+                ast::BinaryOp::Sub => left - poly_in_x(rhs)?,
+                ast::BinaryOp::Mul => left * poly_in_x(rhs)?,
+                ast::BinaryOp::Div => {
+                    let divisor = poly_in_x(rhs)?;
+                    match divisor.coeffs() {
+                        [c] if !c.is_zero() => left.scale(&c.inv().expect("non-zero")),
+                        _ => return bad(),
+                    }
+                }
+                ast::BinaryOp::Rem => return bad(),
+                ast::BinaryOp::Pow => {
+                    let exponent = poly_in_x(rhs)?;
+                    let k = match exponent.coeffs() {
+                        [c] => c.to_i64().filter(|k| (0..=64).contains(k)),
+                        [] => Some(0),
+                        _ => None,
+                    };
+                    let Some(k) = k else { return bad() };
+                    (0..k).fold(UniPoly::one(), |acc, _| acc * left.clone())
+                }
+            }
+        }
+        _ => return bad(),
+    })
 }

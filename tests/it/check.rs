@@ -134,7 +134,7 @@ V = g * (|A><B| + |B><A|)
     }
 }
 
-/// Issue #9, finding 4: the spin–orbit example at xi = h = 1. The `m_j` = ±1/2 pairs form 2x2
+/// Issue #9, finding 4: the spin–orbit example at `xi = h = 1`. The `m_j = ±1/2` pairs form 2x2
 /// blocks `[[-1 + a lambda, c lambda], [c lambda, 1/2 + b lambda]]` whose exceptional points lie at
 /// |lambda| = 3/2 (worked out by hand from the discriminant of the block: `(3/2 + (b - a)
 /// lambda)^2 + 4 c^2 lambda^2 = 0` with `b - a = ±1/3`, `c^2 = 2/9`); the root test said 3.42 at
@@ -251,4 +251,115 @@ proptest! {
         let checked = check::verify(&model, &wrong, &options);
         prop_assert!(!checked.branches[0].passed, "order {} not caught", k);
     }
+}
+
+/// Issue #9, finding 13: algebraic numbers print as `root_between(P, lo, hi)`, and the model
+/// language reads that spelling back (exactly where square roots write the number) as well as the
+/// deprecated `root(P, k)`.
+#[test]
+fn issue_9_algebraic_numbers_in_our_own_notation() {
+    let text = include_str!("../../examples/dot_trimer.clv");
+    let model = load(text);
+    let derivation = derive(&model, &DeriveOptions::new(1)).expect("derivable");
+    let names: Vec<String> = derivation.roots.iter().map(|r| r.name()).collect();
+    assert!(names.iter().all(|n| n.starts_with("root_between(x^3 ")), "{names:?}");
+    assert!(!cleave::emit::report(&model, &derivation, "m.clv", &Vec::new()).contains("root("));
+    for call in ["root_between(x^2 - 2, 1, 2)", "root(x^2 - 2, 2)"] {
+        let text = format!("space d = levels(A, B)\nH0 = {call} * |A><A|\nV = |A><B| + |B><A|\n");
+        let model = load(&text);
+        let expected = RatFunc::constant(cleave::exact::Radical::sqrt_of(&rational("2")));
+        assert_eq!(model.h0().get(0, 0), expected, "{call}");
+    }
+    // A root of degree 3 is named but cannot enter a model: a located error, not a wrong value.
+    let text = format!("space d = levels(A, B)\nH0 = {} * |A><A|\nV = |A><B| + |B><A|\n", names[0]);
+    let Err(err) = cleave::load(&text) else { panic!("degree 3 is refused") };
+    assert!(err.message.contains("degree 3"), "{}", err.message);
+}
+
+/// Issue #9, finding 8: the asymptotic caution appears where it applies (an oscillator) and not on
+/// a finite few-level model, whose series converge inside their radius.
+#[test]
+fn issue_9_asymptotic_caution_only_where_it_applies() {
+    let report = |text: &str, order: u32| {
+        let model = load(text);
+        let derivation = derive(&model, &DeriveOptions::new(order)).expect("derivable");
+        let options = cleave::emit::LatexOptions { standalone: false, at: Vec::new() };
+        let latex = cleave::emit::latex(&model, &derivation, "m.clv", &options);
+        let rust = cleave::emit::rust(&model, &derivation, "m.clv");
+        [cleave::emit::report(&model, &derivation, "m.clv", &Vec::new()), latex, rust]
+    };
+    for text in report(SPIN_ORBIT, 8) {
+        assert!(!text.contains("asymptotic"), "{text}");
+    }
+    for text in report(include_str!("../../examples/quartic_oscillator.clv"), 8) {
+        assert!(text.contains("asymptotic"), "{text}");
+    }
+}
+
+/// Issue #9, finding 7: the truncation note says which coefficients the cut can change, energies
+/// and states apart, and every coefficient it does not name equals that of a cutoff large enough
+/// to need no note (checked against `oscillator(40)`, a snapshot of this project's own values
+/// whose ground energies are Bender & Wu's, Phys. Rev. 184, 1231, 1969: 1/2, 3/4, -21/8, 333/16,
+/// -30885/128).
+#[test]
+fn issue_9_truncation_note_names_what_the_cut_can_change() {
+    use cleave::engine::Note;
+    let text = |n: usize| {
+        format!(
+            "space q = oscillator({n})\nlet x = (q.lower + q.raise) / sqrt(2)\nH0 = q.n + 1/2\n\
+             V = x^4\nfocus 1/2\n"
+        )
+    };
+    let options = DeriveOptions { order: 4, states: Some(4) };
+    let reference = derive(&load(&text(40)), &options).expect("derivable");
+    let reference = &reference.model_spaces[0].branches[0];
+    assert!(reference.energy[4] == RatFunc::from_rational(&rational("-30885/128")));
+    for n in 8..=18 {
+        let derivation = derive(&load(&text(n)), &options).expect("derivable");
+        let space = &derivation.model_spaces[0];
+        let branch = &space.branches[0];
+        let (energies_from, states_from, sufficient) = match space.notes.first() {
+            Some(Note::Truncation { energies_from, states_from, sufficient, .. }) => {
+                let states: usize = sufficient
+                    .trim_start_matches("oscillator(")
+                    .trim_end_matches(')')
+                    .parse()
+                    .expect("a declaration oscillator(N)");
+                (energies_from.unwrap_or(5), states_from.unwrap_or(5), states)
+            }
+            None => (5, 5, 0),
+        };
+        assert!(sufficient <= 17, "n = {n}: sufficient {sufficient}");
+        for k in 0..energies_from as usize {
+            assert_eq!(branch.energy[k], reference.energy[k], "n = {n}: E^({k}) not exact");
+        }
+        let (state, exact) = (branch.state.as_ref().expect("a state"), reference.state.as_ref());
+        for m in 0..states_from as usize {
+            let exact = &exact.expect("a state").coefficients[m];
+            assert_eq!(&state.coefficients[m], exact, "n = {n}: psi^({m}) not exact");
+        }
+    }
+    // With 8 states E^(3) is still exact (the old note said "from order 3 on") and E^(4) is not.
+    let derivation = derive(&load(&text(8)), &options).expect("derivable");
+    let Some(Note::Truncation { energies_from, .. }) = derivation.model_spaces[0].notes.first()
+    else {
+        panic!("no note with 8 states")
+    };
+    assert_eq!(*energies_from, Some(4));
+}
+
+/// Issue #9, finding 11: the emitted Rust writes denominators factored as the report does, and
+/// its doc comments show the report's forms (the numbers themselves are compared with the exact
+/// series by the emitter tests, which compile every example).
+#[test]
+fn issue_9_rust_uses_the_reports_factored_forms() {
+    let text = include_str!("../../examples/qubit_resonator.clv");
+    let model = load(text);
+    let derivation = derive(&model, &DeriveOptions::new(4)).expect("derivable");
+    let rust = cleave::emit::rust(&model, &derivation, "m.clv");
+    let report = cleave::emit::report(&model, &derivation, "m.clv", &Vec::new());
+    assert!(report.contains("-g^4*(w + delta)/(w*(2*w + delta)^3)"));
+    assert!(rust.contains("-g^4*(w + delta)/(w*(2*w + delta)^3)"), "doc comment differs");
+    assert!(rust.contains("-g.powi(4) * (w + delta) / (w * (2.0 * w + delta).powi(3))"), "{rust}");
+    assert!(!rust.contains("w.powi(4)"), "an expanded denominator is left:\n{rust}");
 }

@@ -715,7 +715,7 @@ order 2
     assert!(derivation
         .roots
         .iter()
-        .all(|r| r.name().starts_with("root(x^4 - 2*x^3 - 3*x^2 + 4*x + 1, ")));
+        .all(|r| r.name().starts_with("root_between(x^4 - 2*x^3 - 3*x^2 + 4*x + 1, ")));
     let degenerate = &derivation.model_spaces[0];
     assert_eq!(degenerate.branches.len(), 4);
     let n_params = derivation.parameters.len();
@@ -784,8 +784,8 @@ V2 = s*|S1><S1|
     assert_eq!(derivation.roots.len(), 6);
     let mut moduli: Vec<String> = derivation.roots.iter().map(|r| r.name()).collect();
     moduli.sort();
-    assert!(moduli[0].starts_with("root(x^3 + x^2 - 2*x - 1, "));
-    assert!(moduli[5].starts_with("root(x^3 - x^2 - 2*x + 1, "));
+    assert!(moduli[0].starts_with("root_between(x^3 + x^2 - 2*x - 1, "));
+    assert!(moduli[5].starts_with("root_between(x^3 - x^2 - 2*x + 1, "));
     let space = &derivation.model_spaces[0];
     let mut values = vec![1.0, 1.0];
     values.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
@@ -951,21 +951,28 @@ fn rotor_stark_second_order() {
     }
 }
 
-/// The same rotor cut at `J = 4` and taken to sixth order warns, and names a cut that makes the
-/// coefficients exact; a larger cut then gives the same J = 0 series with no warning.
+/// A cut-off rotor is warned about exactly where the cut can change a reported coefficient, with
+/// a cut that makes them exact; a cut too low changes the coefficients it names and no others.
 #[test]
 fn rotor_cut_is_noted_with_a_sufficient_j() {
+    // J = 0 of rotor(4) at order 6: its wave operator needs J = 3 at most (the state to third
+    // order fixes the energy to sixth by Wigner's 2n+1 rule), so no note, and the series is the
+    // one of a larger rotor.
     let (_, derivation) = check_derive(include_str!("../../examples/rotor_stark.clv"), 6);
     let ground = &derivation.model_spaces[0];
-    let Some(cleave::engine::Note::Truncation { sufficient, first_affected, .. }) =
-        ground.notes.first()
-    else {
-        panic!("the J = 0 level at order 6 reaches J = 4")
-    };
-    assert_eq!(*first_affected, 5);
-    let text = include_str!("../../examples/rotor_stark.clv").replace("rotor(4)", sufficient);
+    assert!(ground.notes.is_empty(), "{:?}", ground.notes);
+    let text = include_str!("../../examples/rotor_stark.clv").replace("rotor(4)", "rotor(8)");
     let (_, exact) = check_derive(&text, 6);
-    assert!(exact.model_spaces[0].notes.is_empty(), "{sufficient} is enough");
+    assert_eq!(ground.branches[0].energy, exact.model_spaces[0].branches[0].energy);
+    // The J = 4 level sits at the cut: noted, and the declaration it names is enough.
+    let top = derivation.model_spaces.last().expect("the J = 4 level");
+    let Some(cleave::engine::Note::Truncation { sufficient, .. }) = top.notes.first() else {
+        panic!("the J = 4 level reaches past the cut")
+    };
+    let text = include_str!("../../examples/rotor_stark.clv").replace("rotor(4)", sufficient);
+    let (_, enough) = check_derive(&text, 6);
+    let same_level = enough.model_spaces.iter().find(|s| s.unperturbed == top.unperturbed);
+    assert!(same_level.is_some_and(|s| s.notes.is_empty()), "{sufficient} is enough");
     // Second order is Townes & Schawlow's -d^2 F^2/(6B) whatever the cut; a rotor cut at J = 2
     // changes the sixth order of J = 0 (its wave operator needs J = 3), and is warned about.
     let e = &exact.model_spaces[0].branches[0].energy;
@@ -975,7 +982,14 @@ fn rotor_cut_is_noted_with_a_sufficient_j() {
     let cut = &short.model_spaces[0];
     assert_ne!(cut.branches[0].energy[6], e[6], "the cut at J = 2 changes sixth order");
     assert_eq!(cut.branches[0].energy[2], e[2]);
-    assert!(!cut.notes.is_empty(), "and says so");
+    let Some(cleave::engine::Note::Truncation { energies_from: Some(k), .. }) = cut.notes.first()
+    else {
+        panic!("the cut at J = 2 is noted for the energies")
+    };
+    assert!(*k <= 6, "the note names sixth order or before ({k})");
+    for (j, (a, b)) in cut.branches[0].energy.iter().zip(e).enumerate().take(*k as usize) {
+        assert_eq!(a, b, "E^({j}) below the order the note names is exact");
+    }
 }
 
 /// Two transmons as ladders: no truncation caution (the three levels are the model), the same

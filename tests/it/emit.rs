@@ -236,6 +236,25 @@ fn compile_and_compare(derivation: &Derivation, code: &str, points: &[(f64, &[f6
         "emitted module does not compile cleanly:\n{}\n{code}",
         String::from_utf8_lossy(&compile.stderr)
     );
+    // Issue #9, finding 12: the same module pulled in with `include!` inside a module, as a
+    // build script's output is, compiles too (no inner doc comments).
+    std::fs::write(
+        dir.path().join("included.rs"),
+        "pub mod series {\n    include!(\"series.rs\");\n}\n",
+    )
+    .expect("write the includer");
+    let included = Command::new("rustc")
+        .args(["--edition", "2021", "-D", "warnings", "--crate-type", "lib"])
+        .args(["--crate-name", "included", "--out-dir"])
+        .arg(dir.path())
+        .arg(dir.path().join("included.rs"))
+        .output()
+        .expect("rustc runs");
+    assert!(
+        included.status.success(),
+        "the module does not compile under include!:\n{}",
+        String::from_utf8_lossy(&included.stderr)
+    );
     let n_params = derivation.parameters.len();
     let mut main = String::from("fn main() {\n");
     for (lambda, params) in points {

@@ -406,10 +406,8 @@ proptest! {
         // Whether each slope passes is the business of `error_falls_like_the_next_order`, which
         // allows for a coefficient that nearly cancels the next one at a given parameter value.
         let checked = cleave::check::verify(&model, &derivation, &cleave::check::CheckOptions { at, order: None });
-        // Each branch is compared somewhere: on the sampled window, or (when its error is exactly
-        // zero, as for V = 0) at the precise points.
         let sampled = !checked.branches.is_empty()
-            && checked.branches.iter().all(|b| !b.samples.is_empty() || !b.precise.is_empty());
+            && checked.branches.iter().all(|b| b.skipped.is_none() && !b.precise.is_empty());
         prop_assert!(sampled, "{text}\n{checked:?}");
     }
 
@@ -426,7 +424,19 @@ proptest! {
         let first = check_error_scaling(&model, &derivation, g_values.0);
         let second = check_error_scaling(&model, &derivation, g_values.1);
         if let (Err(a), Err(b)) = (first, second) {
-            panic!("{a}\n{b}\n{text}");
+            // A model that does not depend on g gives the same numbers at both values, so a next
+            // coefficient that nearly cancels the one after it (the error changing sign inside
+            // the window) shows twice. There the check's own comparison decides: it derives
+            // further orders and measures the error against what they predict, in extended
+            // precision where f64 cannot resolve it.
+            let checked = cleave::check::run(
+                &model,
+                &cleave::check::CheckOptions { at: Vec::new(), order: Some(order) },
+            );
+            let passed = checked.as_ref().is_ok_and(|(_, v)| v.n_failed() == 0 && v.n_checked() > 0);
+            if model.is_symbolic() || !passed {
+                panic!("{a}\n{b}\n{text}");
+            }
         }
     }
 }
