@@ -14,7 +14,7 @@ use crate::emit::{self, LatexOptions, ParamValues};
 use crate::engine::{self, DeriveOptions, EngineError};
 use crate::exact::Rational;
 use crate::lower::{self, SourceMap};
-use crate::model::Model;
+use crate::model::{Model, SubstituteError};
 use crate::spectrum;
 
 /// How a run ended; `main` maps it to the exit status.
@@ -50,6 +50,10 @@ enum Command {
 struct LevelsArgs {
     /// The model file (`*.clv`).
     model: PathBuf,
+    /// Fix a parameter to an exact value before anything is computed, e.g. `--set wq=5`
+    /// (repeatable); the outputs list the fixed values.
+    #[arg(long, value_name = "NAME=VALUE")]
+    set: Vec<String>,
     /// Write the levels as JSON to PATH (`-` for stdout).
     #[arg(long, value_name = "PATH")]
     json: Option<PathBuf>,
@@ -59,6 +63,10 @@ struct LevelsArgs {
 struct DeriveArgs {
     /// The model file (`*.clv`).
     model: PathBuf,
+    /// Fix a parameter to an exact value before anything is computed, e.g. `--set wq=5`
+    /// (repeatable); the outputs list the fixed values.
+    #[arg(long, value_name = "NAME=VALUE")]
+    set: Vec<String>,
     /// The order in lambda (default: the model's `order`, else 2).
     #[arg(long, value_name = "N")]
     order: Option<u32>,
@@ -86,6 +94,10 @@ struct DeriveArgs {
 struct CheckArgs {
     /// The model file (`*.clv`).
     model: PathBuf,
+    /// Fix a parameter to an exact value before anything is computed, e.g. `--set wq=5`
+    /// (repeatable); the outputs list the fixed values.
+    #[arg(long, value_name = "NAME=VALUE")]
+    set: Vec<String>,
     /// The order in lambda (default: the model's `order`, else 2).
     #[arg(long, value_name = "N")]
     order: Option<u32>,
@@ -193,6 +205,34 @@ fn load(path: &Path) -> Result<Loaded, Failure> {
     }
 }
 
+/// Puts the exact values of `--set NAME=VALUE` into the model (see [`Model::substitute`]).
+fn fix_parameters(loaded: Loaded, items: &[String]) -> Result<Loaded, Failure> {
+    if items.is_empty() {
+        return Ok(loaded);
+    }
+    let mut values = Vec::new();
+    for item in items {
+        let Some((name, value)) = item.split_once('=') else {
+            return Err(Failure::bad_input(format!("error: --set {item}: expected NAME=VALUE")));
+        };
+        let value = lower::parse_rational(value.trim())
+            .map_err(|d| Failure::bad_input(format!("error: --set {item}: {}", d.message)))?;
+        values.push((name.trim().to_string(), value));
+    }
+    let model = loaded.model.substitute(&values).map_err(|err| {
+        let item = match &err {
+            SubstituteError::UnknownParameter { name, .. }
+            | SubstituteError::Twice { name }
+            | SubstituteError::NotPositive { name }
+            | SubstituteError::Pole { name } => {
+                items.iter().rev().find(|i| i.split('=').next().map(str::trim) == Some(name))
+            }
+        };
+        Failure::bad_input(format!("error: --set {}: {err}", item.map_or("", String::as_str)))
+    })?;
+    Ok(Loaded { model, ..loaded })
+}
+
 fn execute(command: Command) -> Result<(), Failure> {
     match command {
         Command::Levels(args) => levels(args),
@@ -202,7 +242,7 @@ fn execute(command: Command) -> Result<(), Failure> {
 }
 
 fn levels(args: LevelsArgs) -> Result<(), Failure> {
-    let loaded = load(&args.model)?;
+    let loaded = fix_parameters(load(&args.model)?, &args.set)?;
     let spectrum = spectrum::unperturbed_levels(&loaded.model)
         .map_err(|err| Failure::infeasible(format!("{}: {err}", loaded.name)))?;
     let mut outputs = Outputs::default();
@@ -215,7 +255,7 @@ fn levels(args: LevelsArgs) -> Result<(), Failure> {
 }
 
 fn derive(args: DeriveArgs) -> Result<(), Failure> {
-    let loaded = load(&args.model)?;
+    let loaded = fix_parameters(load(&args.model)?, &args.set)?;
     let at = parse_at(&args.at, &loaded.model)?;
     let options = DeriveOptions { order: order(args.order, &loaded.model), states: args.states };
     let derivation = engine::derive(&loaded.model, &options)
@@ -237,7 +277,7 @@ fn derive(args: DeriveArgs) -> Result<(), Failure> {
 }
 
 fn check_command(args: CheckArgs) -> Result<(), Failure> {
-    let loaded = load(&args.model)?;
+    let loaded = fix_parameters(load(&args.model)?, &args.set)?;
     let at = parse_at(&args.at, &loaded.model)?;
     // The series is derived two orders further than tested: those coefficients predict the
     // error of the order-N series, which makes the numeric test sharp.

@@ -588,7 +588,7 @@ focus 7*a
     assert!(stderr.contains("model.clv:7:1: focus energy 7*a is not an H0 level"), "{stderr}");
     let focused = "param g\nspace s = spin(1/2)\nH0 = s.z\nV = g * s.x\nfocus 1/2\n";
     for flag in ["0", "1000000"] {
-        let (status, stderr) = run_cleave(&focused, &["derive", "model.clv", "--order", flag]);
+        let (status, stderr) = run_cleave(focused, &["derive", "model.clv", "--order", flag]);
         assert_eq!(status, 2, "{stderr}");
         assert!(stderr.starts_with("error: --order:"), "--order {flag}: {stderr}");
     }

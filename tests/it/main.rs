@@ -6,6 +6,7 @@ mod support;
 mod cli;
 mod derive;
 mod emit;
+mod fixed;
 mod fuzz;
 mod grammar;
 mod language;
