@@ -2,6 +2,10 @@
 //! only home of `f64`. Start from [`verify`]; [`evaluate`] turns an exact value into a complex
 //! number. The diagonalization uses nalgebra, a general-purpose linear-algebra library.
 
+mod sweep;
+
+pub use sweep::{sweep, BranchSweep, Sweep, SweepOptions};
+
 use nalgebra::{DMatrix, SymmetricEigen};
 
 use crate::engine::Derivation;

@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 
 use clap::{Args, Parser, Subcommand};
 
-use crate::check::{self, CheckOptions};
+use crate::check::{self, CheckOptions, SweepOptions};
 use crate::diagnostics::Diagnostic;
 use crate::emit::{self, LatexOptions, ParamValues};
 use crate::engine::{self, DeriveOptions, EngineError};
@@ -107,6 +107,13 @@ struct CheckArgs {
     /// Write an SVG plot of the errors to PATH.
     #[arg(long, value_name = "PATH")]
     plot: Option<PathBuf>,
+    /// Write an SVG level diagram to PATH: exact levels and the series of each order against
+    /// lambda, up to LAMBDA_MAX (`--lambda-max`, default 1.5 times the estimated radius, at most 1).
+    #[arg(long, value_name = "PATH")]
+    diagram: Option<PathBuf>,
+    /// With --diagram, the largest lambda drawn.
+    #[arg(long, value_name = "LAMBDA_MAX", requires = "diagram")]
+    lambda_max: Option<f64>,
 }
 
 /// The order used when neither `--order` nor the model's `order` gives one.
@@ -291,6 +298,16 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
     let mut outputs = Outputs::default();
     if let Some(path) = &args.plot {
         outputs.push(path, emit::check_plot(&verification));
+    }
+    if let Some(path) = &args.diagram {
+        let options = SweepOptions {
+            at: check_options.at.clone(),
+            order: Some(tested),
+            lambda_max: args.lambda_max,
+            points: None,
+        };
+        let sweep = check::sweep(&loaded.model, &derivation, &options);
+        outputs.push(path, emit::diagram(&loaded.model, &derivation, &sweep, &loaded.name));
     }
     let text = emit::check_report(&derivation, &verification, &loaded.name);
     outputs.report_unless_stdout_taken(|| text);

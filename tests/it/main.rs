@@ -5,6 +5,7 @@ mod support;
 
 mod cli;
 mod derive;
+mod diagram;
 mod emit;
 mod fixed;
 mod fuzz;
