@@ -97,13 +97,16 @@ impl Loaded {
 }
 
 /// Parses `name = value` pairs (values as exact scalars: `5`, `-3/10`, `0.25`).
-fn parse_values(file: &str, items: &[(String, String)]) -> Result<Vec<(String, Rational)>, Failure> {
+fn parse_values(
+    file: &str,
+    items: &[(String, String)],
+) -> Result<Vec<(String, Rational)>, Failure> {
     items
         .iter()
         .map(|(name, value)| {
-            lower::parse_rational(value.trim()).map(|v| (name.clone(), v)).map_err(|d| {
-                Failure::unlocated(file, format!("{name}={value}: {}", d.message), 2)
-            })
+            lower::parse_rational(value.trim())
+                .map(|v| (name.clone(), v))
+                .map_err(|d| Failure::unlocated(file, format!("{name}={value}: {}", d.message), 2))
         })
         .collect()
 }
@@ -138,8 +141,11 @@ fn load(text: &str, name: &str, fixed: &[(String, String)]) -> Result<Loaded, Fa
     Ok(Loaded { model, source_map, text: text.to_string(), name: name.to_string() })
 }
 
+/// The free parameters as `(name, declared > 0)`.
+type Parameters = Vec<(String, bool)>;
+
 /// The parameters left free, with whether each is declared `> 0`.
-fn parameters(model: &Model) -> Vec<(String, bool)> {
+fn parameters(model: &Model) -> Parameters {
     model.params().iter().map(|p| (p.name.clone(), p.positive)).collect()
 }
 
@@ -162,7 +168,7 @@ fn derive(
     states: Option<u32>,
     fixed: Vec<(String, String)>,
     formats: Vec<String>,
-) -> PyResult<(String, Vec<(String, bool)>, Vec<String>)> {
+) -> PyResult<(String, Parameters, Vec<String>)> {
     run(py, move || {
         let loaded = load(&text, &name, &fixed)?;
         let options = DeriveOptions { order: loaded.order(order), states };
@@ -198,7 +204,7 @@ fn levels(
     text: String,
     name: String,
     fixed: Vec<(String, String)>,
-) -> PyResult<(String, String, Vec<(String, bool)>)> {
+) -> PyResult<(String, String, Parameters)> {
     run(py, move || {
         let loaded = load(&text, &name, &fixed)?;
         let spectrum = cleave::spectrum::unperturbed_levels(&loaded.model)
@@ -302,12 +308,7 @@ fn diagram_svg(
     lambda_max: Option<f64>,
     name: &str,
 ) -> String {
-    let options = SweepOptions {
-        at: at.to_vec(),
-        order: Some(order),
-        lambda_max,
-        points: None,
-    };
+    let options = SweepOptions { at: at.to_vec(), order: Some(order), lambda_max, points: None };
     let sweep = verify::sweep(model, derivation, &options);
     cleave::emit::diagram(model, derivation, &sweep, name)
 }
@@ -316,9 +317,7 @@ fn diagram_svg(
 /// model language's own parser) with exact values put in for the named symbols.
 #[pyfunction]
 fn evaluate_exact(text: String, names: Vec<String>, values: Vec<String>) -> PyResult<String> {
-    let fail = |message: String| {
-        PyErr::new::<pyo3::exceptions::PyValueError, _>(message)
-    };
+    let fail = |message: String| PyErr::new::<pyo3::exceptions::PyValueError, _>(message);
     let mut value = lower::eval_scalar(&text, &names).map_err(|d| fail(d.message))?;
     for (k, v) in values.iter().enumerate() {
         let v = lower::parse_rational(v).map_err(|d| fail(d.message))?;
