@@ -98,3 +98,22 @@ fn diagram_renders_to_a_picture_that_is_not_blank() {
         assert!(colored > 500, "{name}: only {colored} colored pixels");
     }
 }
+
+/// The diagram README shows is what `cleave check examples/qubit_resonator.clv --at delta=1/2
+/// --diagram docs/qubit_resonator_diagram.svg` writes today.
+#[test]
+fn readme_diagram_is_current() {
+    let (model, _) = cleave::load(&example("qubit_resonator")).expect("a valid model");
+    // As the command line does: the order of the model, derived two orders further.
+    let order = model.order().expect("the example sets its order");
+    let derivation = engine::derive(&model, &DeriveOptions::new(order + 2)).expect("derivable");
+    let options = SweepOptions {
+        at: vec![("delta".to_string(), half())],
+        order: Some(order),
+        lambda_max: None,
+        points: None,
+    };
+    let sweep = check::sweep(&model, &derivation, &options);
+    let svg = cleave::emit::diagram(&model, &derivation, &sweep, "examples/qubit_resonator.clv");
+    assert_eq!(svg, include_str!("../../docs/qubit_resonator_diagram.svg"));
+}
