@@ -108,11 +108,11 @@ struct CheckArgs {
     #[arg(long, value_name = "PATH")]
     plot: Option<PathBuf>,
     /// Write an SVG level diagram to PATH: exact levels and the series of each order against
-    /// lambda, up to LAMBDA_MAX (`--lambda-max`, default 1.5 times the estimated radius, at most 1).
+    /// lambda, up to 1.5 times the estimated radius of convergence (at most 1) or --lambda-max.
     #[arg(long, value_name = "PATH")]
     diagram: Option<PathBuf>,
     /// With --diagram, the largest lambda drawn.
-    #[arg(long, value_name = "LAMBDA_MAX", requires = "diagram")]
+    #[arg(long, value_name = "L", requires = "diagram")]
     lambda_max: Option<f64>,
 }
 
