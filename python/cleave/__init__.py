@@ -656,6 +656,8 @@ def check(
     *,
     at: Optional[Dict[str, Any]] = None,
     diagram: bool = False,
+    lambda_max: Optional[float] = None,
+    against: Optional[tuple] = None,
     fixed: Optional[Dict[str, Any]] = None,
     **values,
 ) -> Check:
@@ -664,11 +666,19 @@ def check(
     Args:
         order: the order under test (default: the model's ``order``, else 2).
         at: numeric values of the free parameters for the comparison (others are 1).
-        diagram: also draw the level diagram (:meth:`Check.diagram`).
+        diagram: also draw the level diagram (:meth:`Check.diagram`), against lambda up to
+            ``lambda_max`` (default: 1.5 times the estimated radius, at most 1), or with
+            ``against=("g", 0, 0.5)`` against one parameter at lambda = 1.
         **values: parameters fixed to exact values before deriving, as in :func:`derive`.
     """
     text, name = _read_model(model)
     all_values = dict(fixed or {})
     all_values.update(values)
-    json_text, report, svg = _native.check(text, name, order, _pairs(at or {}), _pairs(all_values), diagram)
+    if against is not None:
+        against = (str(against[0]), float(against[1]), float(against[2]))
+        if not against[1] < against[2]:
+            raise ValueError(f"against={against}: the range must go up")
+    json_text, report, svg = _native.check(
+        text, name, order, _pairs(at or {}), _pairs(all_values), diagram, lambda_max, against
+    )
     return Check(json_text, report, svg)

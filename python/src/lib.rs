@@ -237,10 +237,11 @@ struct BranchCheckJson {
     passed: bool,
 }
 
-/// `check(text, name, order, at, fixed, diagram, lambda_max)`: the outcome of `cleave check` as
-/// JSON, its readable table, and the level diagram's SVG when `diagram` is set.
+/// `check(text, name, order, at, fixed, diagram, lambda_max, against)`: the outcome of `cleave
+/// check` as JSON, its readable table, and the level diagram's SVG when `diagram` is set (against
+/// lambda up to `lambda_max`, or against the parameter `against = (name, from, to)`).
 #[pyfunction]
-#[pyo3(signature = (text, name, order=None, at=Vec::new(), fixed=Vec::new(), diagram=false, lambda_max=None))]
+#[pyo3(signature = (text, name, order=None, at=Vec::new(), fixed=Vec::new(), diagram=false, lambda_max=None, against=None))]
 #[allow(clippy::too_many_arguments)]
 fn check(
     py: Python<'_>,
@@ -251,11 +252,13 @@ fn check(
     fixed: Vec<(String, String)>,
     diagram: bool,
     lambda_max: Option<f64>,
+    against: Option<(String, f64, f64)>,
 ) -> PyResult<(String, String, Option<String>)> {
     run(py, move || {
         let loaded = load(&text, &name, &fixed)?;
         let at = parse_values(&name, &at)?;
-        for (param, _) in &at {
+        let swept = against.iter().map(|(n, _, _)| n);
+        for param in at.iter().map(|(n, _)| n).chain(swept) {
             if !loaded.model.params().iter().any(|p| &p.name == param) {
                 let known = loaded.model.param_names().join(", ");
                 return Err(Failure::unlocated(
@@ -293,8 +296,9 @@ fn check(
         };
         let json = serde_json::to_string(&doc).expect("plain data serializes");
         let report = cleave::emit::check_report(&derivation, &verification, &name);
-        let svg = diagram
-            .then(|| diagram_svg(&loaded.model, &derivation, &at, tested, lambda_max, &name));
+        let svg = diagram.then(|| {
+            diagram_svg(&loaded.model, &derivation, &at, tested, lambda_max, against, &name)
+        });
         Ok((json, report, svg))
     })
 }
@@ -306,9 +310,11 @@ fn diagram_svg(
     at: &[(String, Rational)],
     order: u32,
     lambda_max: Option<f64>,
+    against: Option<(String, f64, f64)>,
     name: &str,
 ) -> String {
-    let options = SweepOptions { at: at.to_vec(), order: Some(order), lambda_max, points: None };
+    let options =
+        SweepOptions { at: at.to_vec(), order: Some(order), lambda_max, against, points: None };
     let sweep = verify::sweep(model, derivation, &options);
     cleave::emit::diagram(model, derivation, &sweep, name)
 }

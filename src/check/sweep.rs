@@ -19,35 +19,41 @@ pub struct SweepOptions {
     /// The largest `lambda`; `None` chooses 1.5 times the smallest estimated radius of
     /// convergence, at most 1.
     pub lambda_max: Option<f64>,
-    /// Points on the `lambda` axis (at least 2; default 121).
+    /// Sweep this parameter over `(name, from, to)` at `lambda = 1`, the others as in `at`,
+    /// instead of sweeping `lambda`.
+    pub against: Option<(String, f64, f64)>,
+    /// Points on the horizontal axis (at least 2; default 121).
     pub points: Option<usize>,
 }
 
-/// Exact levels and series over `0 <= lambda <= lambda_max`.
+/// Exact levels and series over a range of `lambda` or of one parameter.
 #[derive(Clone, Debug)]
 pub struct Sweep {
-    /// The parameter values used, in declaration order.
+    /// The parameter values used, in declaration order (the swept one at its first value).
     pub at: Vec<(String, f64)>,
-    /// The sampled `lambda`, ascending from 0.
-    pub lambdas: Vec<f64>,
-    /// The eigenvalues of `H(lambda)` at each sampled `lambda`, ascending.
+    /// What the horizontal axis is: `lambda`, or the swept parameter's name.
+    pub axis: String,
+    /// The sampled values of the horizontal axis, ascending.
+    pub axis_values: Vec<f64>,
+    /// The eigenvalues of `H(lambda)` at each sampled point, ascending.
     pub exact: Vec<Vec<f64>>,
     /// One entry per branch in the JSON's order.
     pub branches: Vec<BranchSweep>,
-    /// The smallest root-test estimate of the radius of convergence over the branches.
+    /// Against `lambda`: the smallest root-test estimate of the radius of convergence over the
+    /// branches.
     pub radius: Option<f64>,
     /// Set when nothing could be computed, with the reason.
     pub skipped: Option<String>,
 }
 
-/// The series of one branch over the sampled `lambda`.
+/// The series of one branch over the sampled points.
 #[derive(Clone, Debug)]
 pub struct BranchSweep {
     /// Model space index (0-based).
     pub space: usize,
     /// Branch index inside its model space (0-based).
     pub branch: usize,
-    /// `partial_sums[k][j]` is the series to order `k` at `lambdas[j]`, `k = 0..=N`.
+    /// `partial_sums[k][j]` is the series to order `k` at the `j`-th point, `k = 0..=N`.
     pub partial_sums: Vec<Vec<f64>>,
     /// The index (in ascending order) of the exact eigenvalue the branch starts on.
     pub exact_index: Option<usize>,
@@ -60,37 +66,26 @@ pub fn sweep(model: &Model, derivation: &Derivation, options: &SweepOptions) -> 
         .iter()
         .map(|n| options.at.iter().find(|(m, _)| m == n).map_or(1.0, |(_, v)| v.to_f64()))
         .collect();
-    let at: Vec<(String, f64)> = names.iter().cloned().zip(params.iter().copied()).collect();
-    let mut symbols = params.clone();
-    symbols.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
+    let swept = options
+        .against
+        .as_ref()
+        .map(|(name, from, to)| (names.iter().position(|n| n == name), name.clone(), *from, *to));
+    let mut at: Vec<(String, f64)> = names.iter().cloned().zip(params.iter().copied()).collect();
+    if let Some((Some(k), _, from, _)) = &swept {
+        at[*k].1 = *from;
+    }
+    let axis = swept.as_ref().map_or("lambda".to_string(), |(_, name, _, _)| name.clone());
     let empty = |why: String| Sweep {
         at: at.clone(),
-        lambdas: Vec::new(),
+        axis: axis.clone(),
+        axis_values: Vec::new(),
         exact: Vec::new(),
         branches: Vec::new(),
         radius: None,
         skipped: Some(why),
     };
-    let order = options.order.unwrap_or(derivation.order).min(derivation.order) as usize;
-    let mut branches = Vec::new();
-    let mut radius: Option<f64> = None;
-    for (s, space) in derivation.model_spaces.iter().enumerate() {
-        for (b, branch) in space.branches.iter().enumerate() {
-            let coeffs: Option<Vec<f64>> =
-                branch.energy.iter().map(|c| evaluate(c, &symbols).map(|(re, _)| re)).collect();
-            let Some(mut coeffs) = coeffs else {
-                return empty(format!(
-                    "branch {}.{} is undefined at these parameter values",
-                    s + 1,
-                    b + 1
-                ));
-            };
-            coeffs.truncate(order + 1);
-            if let Some(r) = root_test(&coeffs) {
-                radius = Some(radius.map_or(r, |m: f64| m.min(r)));
-            }
-            branches.push((s, b, coeffs));
-        }
+    if let Some((None, name, _, _)) = &swept {
+        return empty(format!("the model has no parameter `{name}` to sweep"));
     }
     let n = model.basis().dimension();
     if n > MAX_CHECK_DIMENSION {
@@ -99,58 +94,110 @@ pub fn sweep(model: &Model, derivation: &Derivation, options: &SweepOptions) -> 
              {MAX_CHECK_DIMENSION}: lower an oscillator cutoff"
         ));
     }
-    let Some(operators) = real_symmetric(model, &params) else {
-        return empty("an operator entry is undefined at these parameter values".into());
+    let order = options.order.unwrap_or(derivation.order).min(derivation.order) as usize;
+    let roots: Vec<f64> = derivation.roots.iter().map(|r| r.approximation().to_f64()).collect();
+    // The coefficients of every branch at the given parameter values, to order N.
+    let coefficients = |params: &[f64]| -> Option<Vec<Vec<f64>>> {
+        let mut symbols = params.to_vec();
+        symbols.extend(&roots);
+        let mut res = Vec::new();
+        for space in &derivation.model_spaces {
+            for branch in &space.branches {
+                let mut coeffs = branch
+                    .energy
+                    .iter()
+                    .map(|c| evaluate(c, &symbols).map(|(re, _)| re))
+                    .collect::<Option<Vec<f64>>>()?;
+                coeffs.truncate(order + 1);
+                res.push(coeffs);
+            }
+        }
+        Some(res)
     };
-    let lambda_max = options
-        .lambda_max
-        .filter(|l| l.is_finite() && *l > 0.0)
-        .unwrap_or_else(|| radius.map_or(1.0, |r| (1.5 * r).min(1.0)));
+    let Some(at_start) = coefficients(&params) else {
+        return empty("a branch is undefined at these parameter values".into());
+    };
+    let radius = match swept {
+        Some(_) => None,
+        None => at_start.iter().filter_map(|c| root_test(c)).reduce(f64::min),
+    };
     let points = options.points.unwrap_or(121).max(2);
-    let lambdas: Vec<f64> =
-        (0..points).map(|j| lambda_max * j as f64 / (points - 1) as f64).collect();
-    let exact: Vec<Vec<f64>> = lambdas
-        .iter()
-        .map(|&lambda| {
-            let mut h = operators.matrices[0].clone();
-            for (k, v) in operators.matrices.iter().enumerate().skip(1) {
-                h += v * lambda.powi(k as i32);
+    let (from, to) = match &swept {
+        Some((_, _, from, to)) => (*from, *to),
+        None => {
+            let lambda_max = options
+                .lambda_max
+                .filter(|l| l.is_finite() && *l > 0.0)
+                .unwrap_or_else(|| radius.map_or(1.0, |r| (1.5 * r).min(1.0)));
+            (0.0, lambda_max)
+        }
+    };
+    let axis_values: Vec<f64> =
+        (0..points).map(|j| from + (to - from) * j as f64 / (points - 1) as f64).collect();
+    // Per point: lambda, the exact spectrum and every branch's coefficients.
+    let mut exact = Vec::with_capacity(points);
+    let mut coefficients_at = Vec::with_capacity(points);
+    let fixed_operators = match swept {
+        Some(_) => None,
+        None => match real_symmetric(model, &params) {
+            Some(ops) => Some(ops),
+            None => {
+                return empty("an operator entry is undefined at these parameter values".into())
             }
-            let mut eig = SymmetricEigen::new(h).eigenvalues.as_slice().to_vec();
-            eig.sort_by(f64::total_cmp);
-            if operators.doubled {
-                // The real form of a complex Hermitian matrix has every eigenvalue twice.
-                eig = eig.into_iter().step_by(2).collect();
+        },
+    };
+    for &x in &axis_values {
+        let (lambda, spectrum, coeffs) = match (&swept, &fixed_operators) {
+            (Some((Some(k), ..)), _) => {
+                let mut here = params.clone();
+                here[*k] = x;
+                let (Some(ops), Some(coeffs)) = (real_symmetric(model, &here), coefficients(&here))
+                else {
+                    return empty(format!("the model is undefined at {axis} = {x}"));
+                };
+                (1.0, spectrum_of(&ops, 1.0), coeffs)
             }
-            eig
-        })
-        .collect();
-    // Each branch starts on the exact eigenvalues nearest its unperturbed energy; branches of
-    // one degenerate level take distinct ones (as many as their multiplicity).
+            (_, Some(ops)) => (x, spectrum_of(ops, x), at_start.clone()),
+            _ => unreachable!("either a swept parameter or fixed operators"),
+        };
+        exact.push(spectrum);
+        coefficients_at.push((lambda, coeffs));
+    }
+    // Each branch starts on the exact eigenvalues nearest its energy just after the first point;
+    // branches of one degenerate level take distinct ones (as many as their multiplicity).
     let multiplicities: Vec<usize> = derivation
         .model_spaces
         .iter()
         .flat_map(|space| space.branches.iter().map(|b| b.multiplicity))
         .collect();
+    let locations: Vec<(usize, usize)> = derivation
+        .model_spaces
+        .iter()
+        .enumerate()
+        .flat_map(|(s, space)| (0..space.branches.len()).map(move |b| (s, b)))
+        .collect();
     let mut taken = vec![false; exact.first().map_or(0, Vec::len)];
-    let branches = branches
+    let branches = locations
         .into_iter()
         .zip(multiplicities)
-        .map(|((space, branch, coeffs), multiplicity)| {
-            let partial_sums: Vec<Vec<f64>> = (0..coeffs.len())
+        .enumerate()
+        .map(|(idx, ((space, branch), multiplicity))| {
+            let n_orders = at_start[idx].len();
+            let partial_sums: Vec<Vec<f64>> = (0..n_orders)
                 .map(|k| {
-                    lambdas
+                    coefficients_at
                         .iter()
-                        .map(|&l| coeffs[..=k].iter().rev().fold(0.0, |acc, c| acc * l + c))
+                        .map(|(l, coeffs)| {
+                            coeffs[idx][..=k].iter().rev().fold(0.0, |acc, c| acc * l + c)
+                        })
                         .collect()
                 })
                 .collect();
-            // The branch's energy just after lambda = 0 tells apart the levels it may start on.
-            let probe = lambdas.get(1).map_or(0, |_| 1);
+            let probe = axis_values.get(1).map_or(0, |_| 1);
             let start = partial_sums.last().map_or(0.0, |v| v[probe]);
             let mut exact_index = None;
             for _ in 0..multiplicity.max(1) {
-                let nearest = exact.get(probe).and_then(|eig| {
+                let nearest = exact.get(probe).and_then(|eig: &Vec<f64>| {
                     eig.iter()
                         .enumerate()
                         .filter(|(k, _)| !taken[*k])
@@ -165,7 +212,22 @@ pub fn sweep(model: &Model, derivation: &Derivation, options: &SweepOptions) -> 
             BranchSweep { space, branch, partial_sums, exact_index }
         })
         .collect();
-    Sweep { at, lambdas, exact, branches, radius, skipped: None }
+    Sweep { at, axis, axis_values, exact, branches, radius, skipped: None }
+}
+
+/// The eigenvalues of `H0 + lambda V1 + lambda^2 V2 + ...`, ascending.
+fn spectrum_of(operators: &RealOperators, lambda: f64) -> Vec<f64> {
+    let mut h = operators.matrices[0].clone();
+    for (k, v) in operators.matrices.iter().enumerate().skip(1) {
+        h += v * lambda.powi(k as i32);
+    }
+    let mut eig = SymmetricEigen::new(h).eigenvalues.as_slice().to_vec();
+    eig.sort_by(f64::total_cmp);
+    if operators.doubled {
+        // The real form of a complex Hermitian matrix has every eigenvalue twice.
+        eig = eig.into_iter().step_by(2).collect();
+    }
+    eig
 }
 
 /// `H0, V1, V2, ...` as real symmetric matrices (a complex Hermitian `A + iB` becomes
@@ -220,9 +282,9 @@ mod tests {
             SweepOptions { lambda_max: Some(0.5), points: Some(11), ..Default::default() };
         let res = sweep(&model, &derivation, &options);
         assert!(res.skipped.is_none());
-        assert_eq!(res.lambdas.len(), 11);
+        assert_eq!(res.axis_values.len(), 11);
         assert_eq!(res.branches.len(), 2);
-        let last = res.lambdas.len() - 1;
+        let last = res.axis_values.len() - 1;
         let root = (0.25f64 + 0.25 * 0.25 / 4.0).sqrt();
         assert!((res.exact[last][0] - (0.5 - root)).abs() < 1e-12);
         assert!((res.exact[last][1] - (0.5 + root)).abs() < 1e-12);
@@ -231,5 +293,28 @@ mod tests {
             let exact = res.exact[last][b.exact_index.expect("a start")];
             assert!((series - exact).abs() < 1e-3, "{series} vs {exact}");
         }
+    }
+
+    #[test]
+    fn a_sweep_against_a_parameter_sets_lambda_to_one() {
+        // H = diag(0, 1) + lambda * g * sigma_x / 2, swept over g at lambda = 1.
+        let text = "param g\nspace s = spin(1/2)\nH0 = s.z + 1/2\nV = g * s.x\norder 4\n";
+        let (model, _) = crate::load(text).expect("a valid model");
+        let derivation = engine::derive(&model, &DeriveOptions::new(4)).expect("derivable");
+        let options = SweepOptions {
+            against: Some(("g".into(), 0.0, 0.4)),
+            points: Some(5),
+            ..Default::default()
+        };
+        let res = sweep(&model, &derivation, &options);
+        assert!(res.skipped.is_none());
+        assert_eq!(res.axis, "g");
+        assert_eq!(res.axis_values, vec![0.0, 0.1, 0.2, 0.30000000000000004, 0.4]);
+        assert!(res.radius.is_none());
+        let root = (0.25f64 + 0.4 * 0.4 / 4.0).sqrt();
+        assert!((res.exact[4][0] - (0.5 - root)).abs() < 1e-12);
+        let unknown = SweepOptions { against: Some(("h".into(), 0.0, 1.0)), ..Default::default() };
+        let skipped = sweep(&model, &derivation, &unknown).skipped.expect("no such parameter");
+        assert_eq!(skipped, "the model has no parameter `h` to sweep");
     }
 }

@@ -114,6 +114,9 @@ struct CheckArgs {
     /// With --diagram, the largest lambda drawn.
     #[arg(long, value_name = "L", requires = "diagram")]
     lambda_max: Option<f64>,
+    /// With --diagram, draw against one parameter at lambda = 1 instead, e.g. `--against g=0..1/2`.
+    #[arg(long, value_name = "NAME=FROM..TO", requires = "diagram")]
+    against: Option<String>,
 }
 
 /// The order used when neither `--order` nor the model's `order` gives one.
@@ -300,10 +303,13 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
         outputs.push(path, emit::check_plot(&verification));
     }
     if let Some(path) = &args.diagram {
+        let against =
+            args.against.as_deref().map(|a| parse_against(a, &loaded.model)).transpose()?;
         let options = SweepOptions {
             at: check_options.at.clone(),
             order: Some(tested),
             lambda_max: args.lambda_max,
+            against,
             points: None,
         };
         let sweep = check::sweep(&loaded.model, &derivation, &options);
@@ -322,6 +328,30 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
         )));
     }
     Ok(())
+}
+
+/// Parses `--against NAME=FROM..TO` for a parameter of the model.
+fn parse_against(item: &str, model: &Model) -> Result<(String, f64, f64), Failure> {
+    let bad = |why: String| Failure::bad_input(format!("error: --against {item}: {why}"));
+    let Some((name, range)) = item.split_once('=') else {
+        return Err(bad("expected NAME=FROM..TO".into()));
+    };
+    let name = name.trim();
+    if !model.params().iter().any(|p| p.name == name) {
+        let known = model.param_names().join(", ");
+        return Err(bad(format!("the model has no free parameter `{name}` (it has: {known})")));
+    }
+    let Some((from, to)) = range.split_once("..") else {
+        return Err(bad("expected a range FROM..TO".into()));
+    };
+    let value = |text: &str| {
+        lower::parse_rational(text.trim()).map(|v| v.to_f64()).map_err(|d| bad(d.message))
+    };
+    let (from, to) = (value(from)?, value(to)?);
+    if from >= to {
+        return Err(bad("the range must go up".into()));
+    }
+    Ok((name.to_string(), from, to))
 }
 
 /// `--order`, else the model's `order`, else [`DEFAULT_ORDER`].

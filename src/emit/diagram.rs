@@ -1,5 +1,5 @@
-//! The level diagram of `cleave check --diagram`: branch energies against lambda, the exact
-//! levels of `H(lambda)` as solid lines and the series of each order as dashed curves, each
+//! The level diagram of `cleave check --diagram`: branch energies against lambda (or against one
+//! parameter at lambda = 1), the exact levels of `H(lambda)` as solid lines and the series of each order as dashed curves, each
 //! branch labelled by its states and the estimated radius of convergence marked.
 //! A pure function of a [`Sweep`] and the [`Derivation`] it came from.
 
@@ -28,9 +28,15 @@ pub fn diagram(model: &Model, derivation: &Derivation, sweep: &Sweep, name: &str
          viewBox=\"0 0 {WIDTH} {HEIGHT}\" font-family=\"sans-serif\" font-size=\"12\">"
     );
     let _ = writeln!(out, "<rect width=\"100%\" height=\"100%\" fill=\"white\"/>");
-    let mut title = format!("Levels of {} against lambda", escape(name));
-    if !sweep.at.is_empty() {
-        let values: Vec<String> = sweep.at.iter().map(|(n, v)| format!("{n} = {v}")).collect();
+    let mut title = format!("Levels of {} against {}", escape(name), escape(&sweep.axis));
+    let mut values: Vec<String> = Vec::new();
+    if sweep.axis != "lambda" {
+        values.push("lambda = 1".to_string());
+    }
+    values.extend(
+        sweep.at.iter().filter(|(n, _)| *n != sweep.axis).map(|(n, v)| format!("{n} = {v}")),
+    );
+    if !values.is_empty() {
         let _ = write!(title, " at {}", escape(&values.join(", ")));
     }
     if !model.fixed().is_empty() {
@@ -43,7 +49,8 @@ pub fn diagram(model: &Model, derivation: &Derivation, sweep: &Sweep, name: &str
         out.push_str("</svg>\n");
         return out;
     }
-    let (x0, x1) = (0.0, sweep.lambdas.last().copied().unwrap_or(1.0));
+    let x0 = sweep.axis_values.first().copied().unwrap_or(0.0);
+    let x1 = sweep.axis_values.last().copied().filter(|x| *x > x0).unwrap_or(x0 + 1.0);
     let (y0, y1) = energy_window(sweep);
     let plot_w = WIDTH - LEFT - RIGHT;
     let plot_h = HEIGHT - TOP - BOTTOM;
@@ -54,7 +61,7 @@ pub fn diagram(model: &Model, derivation: &Derivation, sweep: &Sweep, name: &str
         "<defs><clipPath id=\"plot\"><rect x=\"{LEFT}\" y=\"{TOP}\" width=\"{plot_w}\" \
          height=\"{plot_h}\"/></clipPath></defs>"
     );
-    axes(&mut out, (x0, x1), (y0, y1), &sx, &sy);
+    axes(&mut out, &sweep.axis, (x0, x1), (y0, y1), &sx, &sy);
 
     // Exact levels: every eigenvalue of H(lambda) in ascending order, solid.
     let n_levels = sweep.exact.iter().map(Vec::len).min().unwrap_or(0);
@@ -67,7 +74,7 @@ pub fn diagram(model: &Model, derivation: &Derivation, sweep: &Sweep, name: &str
         let _ = writeln!(
             out,
             "<polyline stroke=\"#444\" stroke-width=\"1.6\" points=\"{}\"/>",
-            points(&sweep.lambdas, &values, &sx, &sy, (y0, y1))
+            points(&sweep.axis_values, &values, &sx, &sy, (y0, y1))
         );
     }
     // The series of each order, dashed in the branch's color, fainter for lower orders.
@@ -80,7 +87,7 @@ pub fn diagram(model: &Model, derivation: &Derivation, sweep: &Sweep, name: &str
                 out,
                 "<polyline stroke=\"{color}\" stroke-width=\"1.4\" stroke-dasharray=\"6 4\" \
                  stroke-opacity=\"{opacity:.2}\" points=\"{}\"/>",
-                points(&sweep.lambdas, values, &sx, &sy, (y0, y1))
+                points(&sweep.axis_values, values, &sx, &sy, (y0, y1))
             );
         }
     }
@@ -164,7 +171,7 @@ fn energy_window(sweep: &Sweep) -> (f64, f64) {
     for b in &sweep.branches {
         let tracked = b.exact_index.map(|k| sweep.exact.iter().filter_map(move |e| e.get(k)));
         let series = b.partial_sums.last().into_iter().flat_map(|values| {
-            values.iter().zip(&sweep.lambdas).filter(|(_, l)| **l <= radius).map(|(v, _)| v)
+            values.iter().zip(&sweep.axis_values).filter(|(_, l)| **l <= radius).map(|(v, _)| v)
         });
         for v in tracked.into_iter().flatten().chain(series) {
             if v.is_finite() {
@@ -184,6 +191,7 @@ fn energy_window(sweep: &Sweep) -> (f64, f64) {
 /// Axes, ticks with labels, grid lines and axis titles.
 fn axes(
     out: &mut String,
+    axis: &str,
     (x0, x1): (f64, f64),
     (y0, y1): (f64, f64),
     sx: &dyn Fn(f64) -> f64,
@@ -227,11 +235,12 @@ fn axes(
     );
     let _ = writeln!(
         out,
-        "<text x=\"{:.2}\" y=\"{:.2}\" text-anchor=\"middle\">lambda</text>\
+        "<text x=\"{:.2}\" y=\"{:.2}\" text-anchor=\"middle\">{}</text>\
          <text x=\"18\" y=\"{:.2}\" transform=\"rotate(-90 18 {:.2})\" \
          text-anchor=\"middle\">energy</text>",
         (LEFT + right) / 2.0,
         bottom + 36.0,
+        escape(axis),
         (TOP + bottom) / 2.0,
         (TOP + bottom) / 2.0
     );
@@ -267,14 +276,14 @@ fn tick_label(value: f64, step: f64) -> String {
 /// The SVG points of a curve, with values far outside the window cut to keep the file sane
 /// (the clip path hides the rest).
 fn points(
-    lambdas: &[f64],
+    axis_values: &[f64],
     values: &[f64],
     sx: &dyn Fn(f64) -> f64,
     sy: &dyn Fn(f64) -> f64,
     (y0, y1): (f64, f64),
 ) -> String {
     let span = y1 - y0;
-    lambdas
+    axis_values
         .iter()
         .zip(values)
         .filter(|(_, v)| v.is_finite())

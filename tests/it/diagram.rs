@@ -21,6 +21,7 @@ fn diagram(text: &str, order: u32, at: &[(&str, Rational)]) -> String {
         at: at.iter().map(|(n, v)| (n.to_string(), v.clone())).collect(),
         order: Some(order),
         lambda_max: None,
+        against: None,
         points: None,
     };
     let sweep = check::sweep(&model, &derivation, &options);
@@ -111,9 +112,44 @@ fn readme_diagram_is_current() {
         at: vec![("delta".to_string(), half())],
         order: Some(order),
         lambda_max: None,
+        against: None,
         points: None,
     };
     let sweep = check::sweep(&model, &derivation, &options);
     let svg = cleave::emit::diagram(&model, &derivation, &sweep, "examples/qubit_resonator.clv");
     assert_eq!(svg, include_str!("../../docs/qubit_resonator_diagram.svg"));
+}
+
+#[test]
+fn diagram_against_a_parameter_from_the_command_line() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let svg_path = dir.path().join("g.svg");
+    let output = Command::new(env!("CARGO_BIN_EXE_cleave"))
+        .args(["check", "examples/qubit_resonator.clv", "--at", "delta=1/2", "--diagram"])
+        .arg(&svg_path)
+        .args(["--against", "g=0..1/2"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .expect("run cleave");
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    let svg = std::fs::read_to_string(&svg_path).expect("the diagram");
+    assert!(svg.contains("against g at lambda = 1, w = 1, delta = 0.5"), "{svg}");
+    assert!(svg.contains(">g</text>") && svg.contains(">0.5</text>"), "{svg}");
+    assert!(!svg.contains("radius ~"), "a radius in lambda means nothing against g");
+    for (against, expected) in [
+        ("x=0..1", "--against x=0..1: the model has no free parameter `x`"),
+        ("g=1..0", "--against g=1..0: the range must go up"),
+        ("g=0", "--against g=0: expected a range FROM..TO"),
+    ] {
+        let output = Command::new(env!("CARGO_BIN_EXE_cleave"))
+            .args(["check", "examples/qubit_resonator.clv", "--diagram"])
+            .arg(&svg_path)
+            .args(["--against", against])
+            .current_dir(env!("CARGO_MANIFEST_DIR"))
+            .output()
+            .expect("run cleave");
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        assert_eq!(output.status.code(), Some(2), "{stderr}");
+        assert!(stderr.contains(expected), "{expected:?} not in {stderr}");
+    }
 }
