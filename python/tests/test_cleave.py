@@ -73,7 +73,7 @@ def test_check_draws_the_level_diagram(cli, monkeypatch, tmp_path):
     svg = cleave.check(model, at={"delta": 0.5}, diagram=True).diagram()
     assert svg == (tmp_path / "d.svg").read_text()
     assert "3.1 |+1/2, 0&gt;" in svg
-    run_cli(cli, "check", model, "--diagram", tmp_path / "g.svg", "--against", "g=0..1/2", "--lambda-max", "1")
+    run_cli(cli, "check", model, "--diagram", tmp_path / "g.svg", "--against", "g=0..1/2")
     svg = cleave.check(model, diagram=True, against=("g", 0, 0.5)).diagram()
     assert svg == (tmp_path / "g.svg").read_text()
     assert "against g at lambda = 1" in svg
