@@ -145,6 +145,11 @@ fn header(out: &mut String, model: &Model, derivation: &Derivation, name: &str) 
             "//! Some model spaces carry notes on a truncated oscillator; see their functions.\n",
         );
     }
+    if !model.fixed().is_empty() {
+        let values: Vec<String> =
+            model.fixed().iter().map(|(n, v)| format!("`{n} = {v}`")).collect();
+        let _ = writeln!(out, "//! Fixed before deriving: {}.", values.join(", "));
+    }
     out.push_str("//! Self-contained: it uses only `std`.\n\n");
 }
 

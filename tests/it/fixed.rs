@@ -155,6 +155,10 @@ fn set_is_reported_in_the_report_and_the_json() {
     // Without --set the field is absent, so existing consumers see no change.
     let (_, json, _) = run(&["derive", model, "--json", "-"]);
     assert!(!json.contains("\"fixed\""));
+    let (_, latex, _) = run(&["derive", model, "--set", "delta=1/2", "--latex", "-"]);
+    assert!(latex.contains("Parameters: $w$, $g$. Fixed before deriving: $\\delta = 1/2$."));
+    let (_, rust, _) = run(&["derive", model, "--set", "delta=1/2", "--set", "w=3", "--rust", "-"]);
+    assert!(rust.contains("//! Fixed before deriving: `w = 3`, `delta = 1/2`.\n"), "{rust}");
     let (status, levels, stderr) = run(&["levels", model, "--set", "w=2", "--json", "-"]);
     assert_eq!(status, 0, "{stderr}");
     assert!(levels.contains("\"fixed\": {\n    \"w\": \"2\""), "{levels}");
