@@ -18,7 +18,7 @@ column.
 >>> r = cleave.derive("param D > 0, B\\nspace s = spin(1)\\nH0 = D * s.z^2\\nV = B * s.x\\n"
 ...                   "focus D\\n", order=2)
 >>> [b.energy[2].text for b in r.branches]
-['-B^2/(2*D)', 'B^2/(2*D)']
+['0', 'B^2/D']
 """
 
 from __future__ import annotations
@@ -52,15 +52,15 @@ __all__ = [
 
 
 def _read_model(model) -> tuple:
-    """The model text and its display name: a path (``str`` or ``os.PathLike``) is read, text is
-    taken as it is (named ``<model>``)."""
+    """The model text and its display name: a path (``os.PathLike``, or a one-line ``str`` that
+    ends in ``.clv`` or names a file) is read, text is taken as it is (named ``<model>``)."""
     if isinstance(model, os.PathLike):
         path = os.fspath(model)
         with open(path, encoding="utf-8") as f:
             return f.read(), path
     if not isinstance(model, str):
         raise TypeError(f"a model is text or a path, not {type(model).__name__}")
-    if "\n" not in model and model.strip().endswith(".clv"):
+    if "\n" not in model and (model.strip().endswith(".clv") or os.path.isfile(model)):
         with open(model, encoding="utf-8") as f:
             return f.read(), model
     return model, "<model>"

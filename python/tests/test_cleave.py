@@ -327,3 +327,14 @@ def test_the_gil_is_released_while_deriving():
     thread.join()
     assert done and len(done[0].branches[0].energy) == 51
     assert spins > 1000
+
+
+def test_the_module_docstring_example_runs():
+    import doctest
+
+    assert doctest.testmod(cleave).failed == 0
+
+
+def test_a_missing_model_file_is_an_os_error():
+    with pytest.raises(FileNotFoundError):
+        cleave.derive("no/such/model.clv")
