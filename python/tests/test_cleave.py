@@ -323,17 +323,34 @@ def test_latex_and_rust_outputs():
 
 
 def test_the_gil_is_released_while_deriving():
-    # A derivation of some tenths of a second in a thread; the main thread keeps running.
+    # A derivation of some tenths of a second runs in a thread while the main thread keeps
+    # looping; were the GIL held, the loop would stall for the whole derivation.
+    import time
+
     model = "space q = oscillator(205)\nlet x = (q.lower + q.raise) / sqrt(2)\nH0 = q.n + 1/2\nV = x^4\nfocus 1/2\n"
-    done = []
-    thread = threading.Thread(target=lambda: done.append(cleave.derive(model, order=50)))
+    span = []
+
+    def work():
+        start = time.perf_counter()
+        res = cleave.derive(model, order=50)
+        span.append((start, time.perf_counter(), res))
+
+    thread = threading.Thread(target=work)
+    last = time.perf_counter()
     thread.start()
-    spins = 0
+    gaps = []
     while thread.is_alive():
-        spins += 1
+        now = time.perf_counter()
+        gaps.append((last, now))
+        last = now
     thread.join()
-    assert done and len(done[0].branches[0].energy) == 51
-    assert spins > 1000
+    (start, end, res) = span[0]
+    assert len(res.branches[0].energy) == 51
+    duration = end - start
+    assert duration > 0.02, "the derivation is too short to tell"
+    # The longest stretch of the derivation in which the loop did not run.
+    longest = max(min(b, end) - max(a, start) for a, b in gaps)
+    assert longest < duration / 2, (longest, duration)
 
 
 def test_the_module_docstring_example_runs():
