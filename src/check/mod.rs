@@ -16,6 +16,9 @@
 mod hp;
 pub mod pade;
 mod radius;
+mod sweep;
+
+pub use sweep::{sweep, BranchSweep, Sweep, SweepOptions};
 
 use std::collections::BTreeMap;
 

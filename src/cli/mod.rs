@@ -8,13 +8,13 @@ use std::path::{Path, PathBuf};
 
 use clap::{Args, Parser, Subcommand};
 
-use crate::check::{self, CheckOptions};
+use crate::check::{self, CheckOptions, SweepOptions};
 use crate::diagnostics::Diagnostic;
 use crate::emit::{self, LatexOptions, ParamValues};
 use crate::engine::{self, DeriveOptions, EngineError};
 use crate::exact::Rational;
 use crate::lower::{self, SourceMap};
-use crate::model::Model;
+use crate::model::{Model, SubstituteError};
 use crate::spectrum;
 
 /// How a run ended; `main` maps it to the exit status.
@@ -50,6 +50,10 @@ enum Command {
 struct LevelsArgs {
     /// The model file (`*.clv`).
     model: PathBuf,
+    /// Fix a parameter to an exact value before anything is computed, e.g. `--set wq=5`
+    /// (repeatable); the outputs list the fixed values.
+    #[arg(long, value_name = "NAME=VALUE")]
+    set: Vec<String>,
     /// Write the levels as JSON to PATH (`-` for stdout).
     #[arg(long, value_name = "PATH")]
     json: Option<PathBuf>,
@@ -59,6 +63,10 @@ struct LevelsArgs {
 struct DeriveArgs {
     /// The model file (`*.clv`).
     model: PathBuf,
+    /// Fix a parameter to an exact value before anything is computed, e.g. `--set wq=5`
+    /// (repeatable); the outputs list the fixed values.
+    #[arg(long, value_name = "NAME=VALUE")]
+    set: Vec<String>,
     /// The order in lambda (default: the model's `order`, else 2).
     #[arg(long, value_name = "N")]
     order: Option<u32>,
@@ -86,6 +94,10 @@ struct DeriveArgs {
 struct CheckArgs {
     /// The model file (`*.clv`).
     model: PathBuf,
+    /// Fix a parameter to an exact value before anything is computed, e.g. `--set wq=5`
+    /// (repeatable); the outputs list the fixed values.
+    #[arg(long, value_name = "NAME=VALUE")]
+    set: Vec<String>,
     /// The order in lambda (default: the model's `order`, else 2).
     #[arg(long, value_name = "N")]
     order: Option<u32>,
@@ -95,6 +107,16 @@ struct CheckArgs {
     /// Write an SVG plot of the errors to PATH (a name ending in `.svg`, or `-`).
     #[arg(long, value_name = "PATH")]
     plot: Option<PathBuf>,
+    /// Write an SVG level diagram to PATH: exact levels and the series of each order against
+    /// lambda, up to 1.5 times the estimated radius of convergence (at most 1) or --lambda-max.
+    #[arg(long, value_name = "PATH")]
+    diagram: Option<PathBuf>,
+    /// With --diagram, the largest lambda drawn.
+    #[arg(long, value_name = "L", requires = "diagram")]
+    lambda_max: Option<f64>,
+    /// With --diagram, draw against one parameter at lambda = 1 instead, e.g. `--against g=0..1/2`.
+    #[arg(long, value_name = "NAME=FROM..TO", requires = "diagram")]
+    against: Option<String>,
 }
 
 /// The order used when neither `--order` nor the model's `order` gives one.
@@ -205,6 +227,34 @@ fn load(path: &Path) -> Result<Loaded, Failure> {
     }
 }
 
+/// Puts the exact values of `--set NAME=VALUE` into the model (see [`Model::substitute`]).
+fn fix_parameters(loaded: Loaded, items: &[String]) -> Result<Loaded, Failure> {
+    if items.is_empty() {
+        return Ok(loaded);
+    }
+    let mut values = Vec::new();
+    for item in items {
+        let Some((name, value)) = item.split_once('=') else {
+            return Err(Failure::bad_input(format!("error: --set {item}: expected NAME=VALUE")));
+        };
+        let value = lower::parse_rational(value.trim())
+            .map_err(|d| Failure::bad_input(format!("error: --set {item}: {}", d.message)))?;
+        values.push((name.trim().to_string(), value));
+    }
+    let model = loaded.model.substitute(&values).map_err(|err| {
+        let item = match &err {
+            SubstituteError::UnknownParameter { name, .. }
+            | SubstituteError::Twice { name }
+            | SubstituteError::NotPositive { name }
+            | SubstituteError::Pole { name } => {
+                items.iter().rev().find(|i| i.split('=').next().map(str::trim) == Some(name))
+            }
+        };
+        Failure::bad_input(format!("error: --set {}: {err}", item.map_or("", String::as_str)))
+    })?;
+    Ok(Loaded { model, ..loaded })
+}
+
 fn execute(command: Command) -> Result<(), Failure> {
     match command {
         Command::Levels(args) => levels(args),
@@ -218,7 +268,7 @@ fn levels(args: LevelsArgs) -> Result<(), Failure> {
     if let Some(path) = &args.json {
         plan.add("json", path, &args.model)?;
     }
-    let loaded = load(&args.model)?;
+    let loaded = fix_parameters(load(&args.model)?, &args.set)?;
     let spectrum = spectrum::unperturbed_levels(&loaded.model)
         .map_err(|err| Failure::infeasible(format!("{}: {err}", loaded.name)))?;
     let mut outputs = Outputs::new(plan);
@@ -236,7 +286,7 @@ fn derive(args: DeriveArgs) -> Result<(), Failure> {
         }
     }
     check_order_flag(args.order)?;
-    let loaded = load(&args.model)?;
+    let loaded = fix_parameters(load(&args.model)?, &args.set)?;
     let at = parse_at(&args.at, &loaded.model)?;
     let options = DeriveOptions { order: order(args.order, &loaded)?, states: args.states };
     let derivation = engine::derive(&loaded.model, &options)
@@ -258,8 +308,11 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
     if let Some(path) = &args.plot {
         plan.add("plot", path, &args.model)?;
     }
+    if let Some(path) = &args.diagram {
+        plan.add("diagram", path, &args.model)?;
+    }
     check_order_flag(args.order)?;
-    let loaded = load(&args.model)?;
+    let loaded = fix_parameters(load(&args.model)?, &args.set)?;
     let at = parse_at(&args.at, &loaded.model)?;
     if let Some(path) = &args.plot {
         // The plot is SVG; a name that promises another format is refused rather than written
@@ -289,6 +342,20 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
         let _ = std::io::stderr().write_all(table.as_bytes());
     } else {
         outputs.report_unless_stdout_taken(|| table);
+    }
+    if args.diagram.is_some() {
+        let against =
+            args.against.as_deref().map(|a| parse_against(a, &loaded.model)).transpose()?;
+        let options = SweepOptions {
+            at: check_options.at.clone(),
+            order: Some(tested),
+            lambda_max: args.lambda_max,
+            against,
+            points: None,
+        };
+        let sweep = check::sweep(&loaded.model, &derivation, &options);
+        let diagram = emit::diagram(&loaded.model, &derivation, &sweep, &loaded.name);
+        outputs.set("diagram", || diagram);
     }
     outputs.write()?;
     // A branch whose error is not what a correct series leaves is a result the user must not
@@ -339,6 +406,30 @@ fn order(flag: Option<u32>, loaded: &Loaded) -> Result<u32, Failure> {
         (Some(n), _) => Ok(n),
         (None, _) => Ok(DEFAULT_ORDER),
     }
+}
+
+/// Parses `--against NAME=FROM..TO` for a parameter of the model.
+fn parse_against(item: &str, model: &Model) -> Result<(String, f64, f64), Failure> {
+    let bad = |why: String| Failure::bad_input(format!("error: --against {item}: {why}"));
+    let Some((name, range)) = item.split_once('=') else {
+        return Err(bad("expected NAME=FROM..TO".into()));
+    };
+    let name = name.trim();
+    if !model.params().iter().any(|p| p.name == name) {
+        let known = model.param_names().join(", ");
+        return Err(bad(format!("the model has no free parameter `{name}` (it has: {known})")));
+    }
+    let Some((from, to)) = range.split_once("..") else {
+        return Err(bad("expected a range FROM..TO".into()));
+    };
+    let value = |text: &str| {
+        lower::parse_rational(text.trim()).map(|v| v.to_f64()).map_err(|d| bad(d.message))
+    };
+    let (from, to) = (value(from)?, value(to)?);
+    if from >= to {
+        return Err(bad("the range must go up".into()));
+    }
+    Ok((name.to_string(), from, to))
 }
 
 /// Parses `--at NAME=VALUE` items against the model's parameters. Values are exact rationals

@@ -1,6 +1,8 @@
 //! The JSON of `cleave levels --json` and `cleave derive --json`, as CONTRACT.md fixes it.
 //! Mirror structs spell out the schema; core types never derive `Serialize`.
 
+use std::collections::BTreeMap;
+
 use serde::Serialize;
 
 use super::text;
@@ -11,6 +13,8 @@ use crate::spectrum::Spectrum;
 #[derive(Serialize)]
 struct LevelsJson {
     parameters: Vec<String>,
+    #[serde(skip_serializing_if = "BTreeMap::is_empty")]
+    fixed: BTreeMap<String, String>,
     dimension: usize,
     levels: Vec<LevelJson>,
 }
@@ -28,6 +32,7 @@ pub fn levels_json(model: &Model, spectrum: &Spectrum) -> String {
     let basis = model.basis();
     let doc = LevelsJson {
         parameters: model.param_names(),
+        fixed: fixed(model),
         dimension: basis.dimension(),
         levels: spectrum
             .levels
@@ -50,6 +55,8 @@ pub fn levels_json(model: &Model, spectrum: &Spectrum) -> String {
 struct DeriveJson {
     order: u32,
     parameters: Vec<String>,
+    #[serde(skip_serializing_if = "BTreeMap::is_empty")]
+    fixed: BTreeMap<String, String>,
     #[serde(skip_serializing_if = "Vec::is_empty")]
     roots: Vec<RootJson>,
     model_spaces: Vec<ModelSpaceJson>,
@@ -151,7 +158,13 @@ fn is_true(value: &bool) -> bool {
     *value
 }
 
-/// The JSON of `cleave derive --json`: the contract's fields, plus `roots` (the `root_between(P, lo, hi)` values
+/// The parameters fixed with `--set`, by name, as exact strings.
+fn fixed(model: &Model) -> BTreeMap<String, String> {
+    model.fixed().iter().map(|(name, value)| (name.clone(), value.to_string())).collect()
+}
+
+/// The JSON of `cleave derive --json`: the contract's fields, plus `fixed` (the values of
+/// `--set`, when there are any), `roots` (the `root_between(P, lo, hi)` values
 /// mention, when there are any), `secular_equations`, `notes`, and per branch its `state` and,
 /// where the reduction stopped, `not_split`.
 pub fn json(model: &Model, derivation: &Derivation) -> String {
@@ -160,6 +173,7 @@ pub fn json(model: &Model, derivation: &Derivation) -> String {
     let doc = DeriveJson {
         order: derivation.order,
         parameters: derivation.parameters.clone(),
+        fixed: fixed(model),
         roots: derivation
             .roots
             .iter()

@@ -190,6 +190,11 @@ fn introduction(
             names[..n_params].iter().map(|n| format!("${}$", symbol(n).text)).collect();
         let _ = write!(out, " Parameters: {}.", symbols.join(", "));
     }
+    if !model.fixed().is_empty() {
+        let values: Vec<String> =
+            model.fixed().iter().map(|(n, v)| format!("${} = {v}$", symbol(n).text)).collect();
+        let _ = write!(out, " Fixed before deriving: {}.", values.join(", "));
+    }
 
     if !options.at.is_empty() {
         let _ = write!(out, " Numeric values are given at {}.", at_text(&options.at, names));

@@ -1,9 +1,10 @@
 //! Output formats, each a pure function of a computed result: report, JSON, LaTeX, Rust.
 //! Start from [`report()`] and [`json()`]; [`latex()`] and [`rust()`] write a paper's tables and code
-//! to embed. Emitters never recompute anything; they know nothing of
+//! to embed; [`diagram()`] draws levels against lambda. Emitters never recompute anything; they know nothing of
 //! parsing, files or engine internals.
 
 mod check;
+mod diagram;
 mod json;
 mod latex;
 mod operators;
@@ -13,6 +14,7 @@ mod terms;
 mod text;
 
 pub use check::{check_plot, check_report};
+pub use diagram::diagram;
 pub use json::{json, levels_json};
 pub use report::{levels_report, report};
 

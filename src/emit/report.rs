@@ -32,6 +32,9 @@ pub fn levels_report(model: &Model, spectrum: &Spectrum, name: &str) -> String {
         spectrum.levels.len(),
         params_suffix(&names)
     );
+    if !model.fixed().is_empty() {
+        let _ = writeln!(out, "{}", fixed_line(model));
+    }
     if !spectrum.diagonal {
         let _ = writeln!(
             out,
@@ -52,6 +55,13 @@ pub fn levels_report(model: &Model, spectrum: &Spectrum, name: &str) -> String {
         }
     }
     out
+}
+
+/// The header line that lists the values fixed with `--set`.
+fn fixed_line(model: &Model) -> String {
+    let values: Vec<String> =
+        model.fixed().iter().map(|(name, value)| format!("{name} = {value}")).collect();
+    format!("fixed: {} (--set)", values.join(", "))
 }
 
 fn params_suffix(names: &[String]) -> String {
@@ -78,6 +88,9 @@ pub fn report(model: &Model, derivation: &Derivation, name: &str, at: &ParamValu
         if model.perturbations().len() > 1 { " + lambda^2 V2 + ..." } else { "" },
         params_suffix(&derivation.parameters)
     );
+    if !model.fixed().is_empty() {
+        let _ = writeln!(out, "{}", fixed_line(model));
+    }
     if !at.is_empty() {
         let values: Vec<String> = at
             .iter()

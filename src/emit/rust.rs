@@ -293,9 +293,12 @@ fn header(out: &mut String, model: &Model, derivation: &Derivation, name: &str) 
         );
     }
     if derivation.model_spaces.iter().any(|s| !s.notes.is_empty()) {
-        out.push_str(
-            "// Some model spaces carry notes on a truncated oscillator; see their functions.\n",
-        );
+        out.push_str("// Some model spaces carry notes on a cut-off space; see their functions.\n");
+    }
+    if !model.fixed().is_empty() {
+        let values: Vec<String> =
+            model.fixed().iter().map(|(n, v)| format!("`{n} = {v}`")).collect();
+        let _ = writeln!(out, "// Fixed before deriving: {}.", values.join(", "));
     }
     out.push_str(
         "// Self-contained: it uses only `std`. Use it as a module file, or with\n\

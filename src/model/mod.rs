@@ -12,7 +12,7 @@ pub use basis::{Basis, Key, Layout};
 pub use operator::{LeavesBasis, NotDiagonal, OperatorExpr};
 pub use space::{Kind, LabelField, Space, SpinOp};
 
-use crate::exact::{Field, RatFunc};
+use crate::exact::{Field, Monomial, ParamId, Poly, Radical, RatFunc, Rational};
 use crate::linalg::SparseMatrix;
 
 /// An exact operator on the product space, with entries that may depend on the parameters.
@@ -68,6 +68,7 @@ pub struct Model {
     order: Option<u32>,
     targets: Vec<Option<Target>>,
     quantities: Vec<Quantity>,
+    fixed: Vec<(String, Rational)>,
 }
 
 /// Why a [`Model`] could not be built from its parts.
@@ -124,6 +125,7 @@ impl Model {
             order,
             targets,
             quantities: Vec::new(),
+            fixed: Vec::new(),
         })
     }
     /// The same model with operator targets for its `focus` lines (`targets[k]` for line `k`;
@@ -174,12 +176,181 @@ impl Model {
     pub fn order(&self) -> Option<u32> {
         self.order
     }
+    /// The parameters fixed by [`Model::substitute`], with their values, in declaration order.
+    pub fn fixed(&self) -> &[(String, Rational)] {
+        &self.fixed
+    }
+    /// The model with exact values put in for some parameters (`--set wq=5`): they leave the
+    /// parameter list, the others keep their order, and [`Model::fixed`] records the values.
+    ///
+    /// A numeric model (every parameter fixed) is derived in exact numbers rather than rational
+    /// functions, which is much faster, and gives the symbolic result evaluated at the values
+    /// wherever that result is defined there.
+    pub fn substitute(&self, values: &[(String, Rational)]) -> Result<Model, SubstituteError> {
+        let mut value_of: Vec<Option<&Rational>> = vec![None; self.params.len()];
+        for (name, value) in values {
+            let Some(k) = self.params.iter().position(|p| &p.name == name) else {
+                return Err(SubstituteError::UnknownParameter {
+                    name: name.clone(),
+                    known: self.param_names(),
+                });
+            };
+            if value_of[k].is_some() {
+                return Err(SubstituteError::Twice { name: name.clone() });
+            }
+            if self.params[k].positive && !value.is_positive() {
+                return Err(SubstituteError::NotPositive { name: name.clone() });
+            }
+            value_of[k] = Some(value);
+        }
+        // Kept parameters are renumbered in order: `new_id[k]` is the new index of `ParamId(k)`.
+        let mut new_id: Vec<Option<u32>> = Vec::with_capacity(self.params.len());
+        let mut n_kept = 0;
+        for value in &value_of {
+            new_id.push(value.is_none().then_some(n_kept));
+            n_kept += u32::from(value.is_none());
+        }
+        let fix = |x: &RatFunc| -> Result<RatFunc, SubstituteError> {
+            let mut res = x.clone();
+            for (k, value) in value_of.iter().enumerate() {
+                if let Some(value) = value {
+                    res = res
+                        .eval_param(ParamId(k as u32), &Radical::from((*value).clone()))
+                        .ok_or(SubstituteError::Pole { name: self.params[k].name.clone() })?;
+                }
+            }
+            Ok(renumber(&res, &new_id))
+        };
+        let fix_operator = |op: &Operator| -> Result<Operator, SubstituteError> {
+            let mut error = None;
+            let res = op.map(|x| {
+                fix(x).unwrap_or_else(|err| {
+                    error.get_or_insert(err);
+                    RatFunc::zero()
+                })
+            });
+            error.map_or(Ok(res), Err)
+        };
+        let h0 = fix_operator(&self.h0)?;
+        let perturbations =
+            self.perturbations.iter().map(fix_operator).collect::<Result<Vec<_>, _>>()?;
+        let focus = self
+            .focus
+            .iter()
+            .map(|line| line.iter().map(&fix).collect::<Result<Vec<_>, _>>())
+            .collect::<Result<Vec<_>, _>>()?;
+        let quantities = self
+            .quantities
+            .iter()
+            .map(|q| {
+                let terms = q
+                    .terms
+                    .iter()
+                    .map(|(state, weight)| Ok((*state, fix(weight)?)))
+                    .collect::<Result<Vec<_>, SubstituteError>>()?;
+                Ok(Quantity { name: q.name.clone(), terms })
+            })
+            .collect::<Result<Vec<_>, SubstituteError>>()?;
+        let mut fixed = self.fixed.clone();
+        let mut params = Vec::new();
+        for (param, value) in self.params.iter().zip(&value_of) {
+            match value {
+                Some(value) => fixed.push((param.name.clone(), (*value).clone())),
+                None => params.push(param.clone()),
+            }
+        }
+        Ok(Model {
+            params,
+            basis: self.basis.clone(),
+            h0,
+            perturbations,
+            focus,
+            order: self.order,
+            targets: self.targets.clone(),
+            quantities,
+            fixed,
+        })
+    }
     /// Whether any operator entry depends on a parameter.
     pub fn is_symbolic(&self) -> bool {
         std::iter::once(&self.h0)
             .chain(&self.perturbations)
             .any(|op| op.triplets().any(|(_, _, v)| v.as_constant().is_none()))
     }
+}
+
+/// Why [`Model::substitute`] could not put in the values it was given.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum SubstituteError {
+    /// No parameter has this name.
+    UnknownParameter {
+        /// The name given.
+        name: String,
+        /// The model's parameters.
+        known: Vec<String>,
+    },
+    /// The same parameter was given two values.
+    Twice {
+        /// The parameter.
+        name: String,
+    },
+    /// A parameter declared `> 0` was given a value that is not positive.
+    NotPositive {
+        /// The parameter.
+        name: String,
+    },
+    /// The value makes a denominator in the model vanish.
+    Pole {
+        /// The parameter.
+        name: String,
+    },
+}
+
+impl std::fmt::Display for SubstituteError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            SubstituteError::UnknownParameter { name, known } if known.is_empty() => {
+                write!(f, "the model has no parameter `{name}` (it has none)")
+            }
+            SubstituteError::UnknownParameter { name, known } => {
+                write!(f, "the model has no parameter `{name}` (it has: {})", known.join(", "))
+            }
+            SubstituteError::Twice { name } => write!(f, "`{name}` is given twice"),
+            SubstituteError::NotPositive { name } => {
+                write!(f, "`{name}` is declared `> 0`, so its value must be positive")
+            }
+            SubstituteError::Pole { name } => {
+                write!(f, "this value of `{name}` makes a denominator in the model vanish")
+            }
+        }
+    }
+}
+
+impl std::error::Error for SubstituteError {}
+
+/// `value` with `ParamId(k)` renamed to `ParamId(new_id[k])`; every parameter it mentions must
+/// have a new id. The renaming keeps the order of the ids, so canonical forms stay canonical.
+fn renumber(value: &RatFunc, new_id: &[Option<u32>]) -> RatFunc {
+    let poly = |p: &Poly| {
+        Poly::from_terms(
+            p.terms()
+                .iter()
+                .map(|(m, c)| {
+                    let factors = m
+                        .factors()
+                        .iter()
+                        .map(|(p, e)| {
+                            let id = new_id.get(p.0 as usize).copied().flatten();
+                            (ParamId(id.expect("substituted parameters are gone")), *e)
+                        })
+                        .collect();
+                    (Monomial::new(factors), c.clone())
+                })
+                .collect(),
+        )
+    };
+    RatFunc::new(poly(value.numer()), poly(value.denom()))
+        .expect("renaming keeps a denominator nonzero")
 }
 
 /// Helper used by tests and builders: the operator `value * identity` on `n` states.
