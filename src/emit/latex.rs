@@ -750,7 +750,7 @@ fn series_pieces(coeffs: &[Fraction], var: &str, descending: bool, names: &[Stri
 struct FactoredTex {
     negative: bool,
     magnitude: Tex,
-    split: Option<(Tex, Vec<Atom>)>,
+    split: Option<(Vec<Tex>, Vec<Atom>)>,
 }
 
 /// [`series_pieces`] where `factored[k]`, when given, is the sign and magnitude to typeset for
@@ -778,13 +778,26 @@ fn series_pieces_with(
             let mut piece = operator(f.negative, first);
             match &f.split {
                 Some((prefix, long)) if f.magnitude.width > LINE_BUDGET / 2 => {
-                    piece.push(prefix);
-                    if !power.text.is_empty() {
-                        piece.push_str("\\,", 0);
-                        piece.push(&power);
+                    let mut prefix = prefix.clone();
+                    let mut tail = prefix.pop().unwrap_or_default();
+                    if let Some(head) = prefix.first_mut() {
+                        piece.push(head);
+                        *head = piece;
+                        res.extend(prefix);
+                    } else {
+                        piece.push(&tail);
+                        tail = piece;
                     }
-                    piece.push_str("\\bigl(", 1);
-                    grouped(&mut res, piece, long, names);
+                    if !power.text.is_empty() {
+                        tail.push_str("\\,", 0);
+                        tail.push(&power);
+                    }
+                    if long.is_empty() {
+                        res.push(tail);
+                    } else {
+                        tail.push_str("\\bigl(", 1);
+                        grouped(&mut res, tail, long, names);
+                    }
                 }
                 _ => {
                     piece.push(&f.magnitude);
@@ -914,13 +927,13 @@ fn factored_form(value: &RatFunc, ctx: &SpaceContext<'_>) -> Option<FactoredTex>
     let (negative, magnitude) = factored_tex(value, ctx)?;
     let split = (|| {
         let parts = text::factor_value(value, ctx.factoring)?;
-        let (long_idx, _) = parts
+        let long_idx = parts
             .numer
             .iter()
             .enumerate()
             .filter(|(_, (p, e))| *e == 1 && p.terms().len() > 1)
-            .max_by_key(|(_, (p, _))| p.terms().len())?;
-        let long = terms::atoms(&parts.numer[long_idx].0);
+            .max_by_key(|(_, (p, _))| p.terms().len())
+            .map(|(idx, _)| idx);
         let mut rest = text::Factored {
             negative: false,
             constant: parts.constant.clone(),
@@ -928,8 +941,11 @@ fn factored_form(value: &RatFunc, ctx: &SpaceContext<'_>) -> Option<FactoredTex>
             numer: parts.numer.clone(),
             denom: parts.denom.clone(),
         };
-        rest.numer.remove(long_idx);
-        Some((factored_parts_tex(&rest, ctx), long))
+        let long = match long_idx {
+            Some(idx) => terms::atoms(&rest.numer.remove(idx).0),
+            None => Vec::new(),
+        };
+        Some((factored_parts_pieces(&rest, ctx, LINE_BUDGET / 2), long))
     })();
     Some(FactoredTex { negative, magnitude, split })
 }
@@ -943,6 +959,22 @@ fn factored_tex(value: &RatFunc, ctx: &SpaceContext<'_>) -> Option<(bool, Tex)> 
 
 /// The unsigned magnitude of factored parts as a fraction.
 fn factored_parts_tex(parts: &text::Factored, ctx: &SpaceContext<'_>) -> Tex {
+    let pieces = factored_parts_pieces(parts, ctx, usize::MAX);
+    let mut res = Tex::default();
+    for piece in &pieces {
+        res.push(piece);
+    }
+    res
+}
+
+/// [`factored_parts_tex`] as pieces between which a line may break: the numerator over the
+/// first denominator factors, then `\cdot \frac{1}{...}` for the others, each denominator at most
+/// `budget` wide (one factor at least).
+fn factored_parts_pieces(
+    parts: &text::Factored,
+    ctx: &SpaceContext<'_>,
+    budget: usize,
+) -> Vec<Tex> {
     // A sum is parenthesized unless it stands alone above or below the fraction bar.
     let factor = |(p, e): &(crate::exact::Poly, u32), alone: bool| -> Tex {
         let atoms = terms::atoms(p);
@@ -993,10 +1025,30 @@ fn factored_parts_tex(parts: &text::Factored, ctx: &SpaceContext<'_>) -> Tex {
     bottom.extend(parts.denom.iter().map(|f| factor(f, bottom_alone)));
     let numerator = if top.is_empty() { Tex::new("1", 1) } else { join(top) };
     if bottom.is_empty() {
-        numerator
-    } else {
-        frac(&numerator, &join(bottom))
+        return vec![numerator];
     }
+    let mut chunks: Vec<Vec<Tex>> = vec![Vec::new()];
+    let mut width = 0;
+    for factor in bottom {
+        let last = chunks.last_mut().expect("one chunk");
+        if !last.is_empty() && width + factor.width > budget {
+            chunks.push(Vec::new());
+            width = 0;
+        }
+        width += factor.width + 1;
+        chunks.last_mut().expect("one chunk").push(factor);
+    }
+    let mut res = Vec::new();
+    for (idx, chunk) in chunks.into_iter().enumerate() {
+        if idx == 0 {
+            res.push(frac(&numerator, &join(chunk)));
+        } else {
+            let mut piece = Tex::new(" \\cdot ", 1);
+            piece.push(&frac(&Tex::new("1", 1), &join(chunk)));
+            res.push(piece);
+        }
+    }
+    res
 }
 
 /// A value typeset inline: a sum, or a fraction of sums.
