@@ -143,7 +143,18 @@ pub fn run(
     })?;
     let extra = EXTRA_ORDERS.min(engine::MAX_ORDER.saturating_sub(tested));
     let derive_options = DeriveOptions { order: tested + extra, states: Some(0) };
-    let derivation = engine::derive(&numeric, &derive_options)?;
+    // Where the extra orders are beyond reach, the series is tested by its slope alone.
+    let derivation = match engine::derive(&numeric, &derive_options) {
+        Ok(derivation) => derivation,
+        Err(_) if extra > 0 => {
+            notes.push(format!(
+                "the series could not be derived {extra} orders further to predict its error; \
+                 each branch is tested by the slope of its error alone"
+            ));
+            engine::derive(&numeric, &DeriveOptions { order: tested, states: Some(0) })?
+        }
+        Err(err) => return Err(err),
+    };
     let mut verification =
         verify(&numeric, &derivation, &CheckOptions { at: Vec::new(), order: Some(tested) });
     verification.at = values.iter().map(|v| (v.name.clone(), v.value.to_f64())).collect();

@@ -330,6 +330,19 @@ fn model_space(out: &mut String, ctx: &SpaceContext<'_>) {
     for (b, branch) in space.branches.iter().enumerate() {
         branch_series(out, b + 1, branch, ctx);
     }
+    if space.branches.iter().any(|b| b.state.is_some()) {
+        out.push_str(
+            "\nThe states in intermediate normalization (each correction is orthogonal to \
+             $\\psi^{(0)}$), to the order each is determined:\n",
+        );
+        for (b, branch) in space.branches.iter().enumerate() {
+            let Some(state) = &branch.state else { continue };
+            for (k, vector) in state.coefficients.iter().enumerate() {
+                let lhs = Tex::new(format!("\\psi_{{{}}}^{{({k})}} = ", b + 1), 8);
+                display(out, &lhs, &state_pieces(vector, ctx), None);
+            }
+        }
+    }
     if let Some(form) = &space.operator_form {
         operator_form(out, form, ctx);
     }
@@ -456,8 +469,11 @@ fn branch_table(out: &mut String, ctx: &SpaceContext<'_>) {
             at_text(&ctx.options.at, ctx.names)
         );
     }
-    out.push_str("\n\\begin{table}[htbp]\n\\centering\n\\small\n");
-    let _ = writeln!(out, "\\caption{{{caption}}}");
+    // Not a float: the table stays with its section, and a minipage keeps it on one page.
+    out.push_str(
+        "\n\\par\\medskip\\noindent\\begin{minipage}{\\linewidth}\n\\centering\n\\small\n",
+    );
+    let _ = writeln!(out, "\\refstepcounter{{table}}Table~\\thetable: {caption}\\par\\medskip");
     if normal_width <= TABLE_BUDGET {
         let _ = writeln!(out, "\\begin{{tabular}}{{@{{}}c{}cc@{{}}}}", "l".repeat(n_orders));
         out.push_str("\\toprule\nbranch");
@@ -576,7 +592,7 @@ fn branch_table(out: &mut String, ctx: &SpaceContext<'_>) {
     if !remarks.is_empty() {
         let _ = writeln!(out, "\n\\smallskip\n\\footnotesize {}", remarks.join(" "));
     }
-    out.push_str("\\end{table}\n");
+    out.push_str("\\end{minipage}\\par\\medskip\n");
 }
 
 fn effective_hamiltonian(out: &mut String, ctx: &SpaceContext<'_>) {
@@ -668,8 +684,8 @@ fn secular_equation(out: &mut String, secular: &SecularEquation, names: &[String
 fn branch_series(out: &mut String, number: usize, branch: &Branch, ctx: &SpaceContext<'_>) {
     let coeffs: Vec<Fraction> = branch.energy.iter().map(terms::fraction).collect();
     // A coefficient with a non-trivial denominator reads better factored.
-    let factored: Vec<Option<(bool, Tex)>> =
-        branch.energy.iter().map(|c| factored_tex(c, ctx)).collect();
+    let factored: Vec<Option<FactoredTex>> =
+        branch.energy.iter().map(|c| factored_form(c, ctx)).collect();
     let mut pieces = series_pieces_with(&coeffs, &factored, "\\lambda", false, ctx.names);
 
     if pieces.is_empty() {
@@ -849,11 +865,20 @@ fn series_pieces(coeffs: &[Fraction], var: &str, descending: bool, names: &[Stri
     series_pieces_with(coeffs, &[], var, descending, names)
 }
 
+/// A coefficient typeset from its factored form: sign and magnitude, and for a magnitude too wide
+/// for a line, the same value as a fraction of the short factors times the long numerator factor,
+/// whose terms may then go on several lines.
+struct FactoredTex {
+    negative: bool,
+    magnitude: Tex,
+    split: Option<(Vec<Tex>, Vec<Atom>)>,
+}
+
 /// [`series_pieces`] where `factored[k]`, when given, is the sign and magnitude to typeset for
 /// coefficient `k` instead of its expanded form.
 fn series_pieces_with(
     coeffs: &[Fraction],
-    factored: &[Option<(bool, Tex)>],
+    factored: &[Option<FactoredTex>],
     var: &str,
     descending: bool,
     names: &[String],
@@ -870,14 +895,40 @@ fn series_pieces_with(
         }
         let first = res.is_empty();
         let power = power(var, k);
-        if let Some(Some((negative, magnitude))) = factored.get(k) {
-            let mut piece = operator(*negative, first);
-            piece.push(magnitude);
-            if !power.text.is_empty() {
-                piece.push_str("\\,", 0);
-                piece.push(&power);
+        if let Some(Some(f)) = factored.get(k) {
+            let mut piece = operator(f.negative, first);
+            match &f.split {
+                Some((prefix, long)) if f.magnitude.width > LINE_BUDGET / 2 => {
+                    let mut prefix = prefix.clone();
+                    let mut tail = prefix.pop().unwrap_or_default();
+                    if let Some(head) = prefix.first_mut() {
+                        piece.push(head);
+                        *head = piece;
+                        res.extend(prefix);
+                    } else {
+                        piece.push(&tail);
+                        tail = piece;
+                    }
+                    if !power.text.is_empty() {
+                        tail.push_str("\\,", 0);
+                        tail.push(&power);
+                    }
+                    if long.is_empty() {
+                        res.push(tail);
+                    } else {
+                        tail.push_str("\\bigl(", 1);
+                        grouped(&mut res, tail, long, names);
+                    }
+                }
+                _ => {
+                    piece.push(&f.magnitude);
+                    if !power.text.is_empty() {
+                        piece.push_str("\\,", 0);
+                        piece.push(&power);
+                    }
+                    res.push(piece);
+                }
             }
-            res.push(piece);
             continue;
         }
         if coeff.denom.is_empty() {
@@ -991,10 +1042,60 @@ fn value_tex(value: &RatFunc, ctx: &SpaceContext<'_>) -> Tex {
     }
 }
 
+/// [`factored_tex`] with the split form for a magnitude too wide for a line: the longest sum
+/// among the numerator factors (to the first power) comes out of the fraction.
+fn factored_form(value: &RatFunc, ctx: &SpaceContext<'_>) -> Option<FactoredTex> {
+    let (negative, magnitude) = factored_tex(value, ctx)?;
+    let split = (|| {
+        let parts = text::factor_value(value, ctx.factoring)?;
+        let long_idx = parts
+            .numer
+            .iter()
+            .enumerate()
+            .filter(|(_, (p, e))| *e == 1 && p.terms().len() > 1)
+            .max_by_key(|(_, (p, _))| p.terms().len())
+            .map(|(idx, _)| idx);
+        let mut rest = text::Factored {
+            negative: false,
+            constant: parts.constant.clone(),
+            radicand: parts.radicand,
+            numer: parts.numer.clone(),
+            denom: parts.denom.clone(),
+        };
+        let long = match long_idx {
+            Some(idx) => terms::atoms(&rest.numer.remove(idx).0),
+            None => Vec::new(),
+        };
+        Some((factored_parts_pieces(&rest, ctx, LINE_BUDGET / 2), long))
+    })();
+    Some(FactoredTex { negative, magnitude, split })
+}
+
 /// The sign and the unsigned magnitude of a value typeset from its factored form,
 /// `\frac{g^{4} (w + \delta)}{w (2 w + \delta)^{3}}`.
 fn factored_tex(value: &RatFunc, ctx: &SpaceContext<'_>) -> Option<(bool, Tex)> {
     let parts = text::factor_value(value, ctx.factoring)?;
+    Some((parts.negative, factored_parts_tex(&parts, ctx)))
+}
+
+/// The unsigned magnitude of factored parts as a fraction.
+fn factored_parts_tex(parts: &text::Factored, ctx: &SpaceContext<'_>) -> Tex {
+    let pieces = factored_parts_pieces(parts, ctx, usize::MAX);
+    let mut res = Tex::default();
+    for piece in &pieces {
+        res.push(piece);
+    }
+    res
+}
+
+/// [`factored_parts_tex`] as pieces between which a line may break: the numerator over the
+/// first denominator factors, then `\cdot \frac{1}{...}` for the others, each denominator at most
+/// `budget` wide (one factor at least).
+fn factored_parts_pieces(
+    parts: &text::Factored,
+    ctx: &SpaceContext<'_>,
+    budget: usize,
+) -> Vec<Tex> {
     // A sum is parenthesized unless it stands alone above or below the fraction bar.
     let factor = |(p, e): &(crate::exact::Poly, u32), alone: bool| -> Tex {
         let atoms = terms::atoms(p);
@@ -1043,11 +1144,32 @@ fn factored_tex(value: &RatFunc, ctx: &SpaceContext<'_>) -> Option<(bool, Tex)> 
     }
     let bottom_alone = bottom.is_empty() && parts.denom.len() == 1;
     bottom.extend(parts.denom.iter().map(|f| factor(f, bottom_alone)));
-    let numerator = join(top);
-    Some((
-        parts.negative,
-        if bottom.is_empty() { numerator } else { frac(&numerator, &join(bottom)) },
-    ))
+    let numerator = if top.is_empty() { Tex::new("1", 1) } else { join(top) };
+    if bottom.is_empty() {
+        return vec![numerator];
+    }
+    let mut chunks: Vec<Vec<Tex>> = vec![Vec::new()];
+    let mut width = 0;
+    for factor in bottom {
+        let last = chunks.last_mut().expect("one chunk");
+        if !last.is_empty() && width + factor.width > budget {
+            chunks.push(Vec::new());
+            width = 0;
+        }
+        width += factor.width + 1;
+        chunks.last_mut().expect("one chunk").push(factor);
+    }
+    let mut res = Vec::new();
+    for (idx, chunk) in chunks.into_iter().enumerate() {
+        if idx == 0 {
+            res.push(frac(&numerator, &join(chunk)));
+        } else {
+            let mut piece = Tex::new(" \\cdot ", 1);
+            piece.push(&frac(&Tex::new("1", 1), &join(chunk)));
+            res.push(piece);
+        }
+    }
+    res
 }
 
 /// A value typeset inline: a sum, or a fraction of sums.
@@ -1157,10 +1279,75 @@ fn symbol_part(name: &str) -> Tex {
     if name.chars().count() == 1 && name.chars().all(|c| c.is_ascii_alphabetic()) {
         return Tex::new(name, 1);
     }
-    Tex::new(format!("\\mathrm{{{}}}", escape_math(name)), name.chars().count())
+    // Upright letters of a multi-letter name set wider than the budget's unit.
+    Tex::new(format!("\\mathrm{{{}}}", escape_math(name)), (3 * name.chars().count()).div_ceil(2))
 }
 
 /// A model-space state: a ket, or a sum of kets with exact coefficients.
+/// A state as pieces between which a line may break: one per ket with its coefficient, and a
+/// long coefficient itself broken as the series are (factored where the report factors it).
+fn state_pieces(vector: &SparseVec<RatFunc>, ctx: &SpaceContext<'_>) -> Vec<Tex> {
+    let (basis, names) = (ctx.model.basis(), ctx.names);
+    let mut res = Vec::new();
+    for (k, (idx, coeff)) in vector.entries().iter().enumerate() {
+        let value = terms::fraction(coeff);
+        if value.denom.is_empty() && value.numer.len() == 1 {
+            let atom = &value.numer[0];
+            let mut piece = operator(atom.negative, k == 0);
+            if !is_unit(atom) {
+                piece.push(&atom_tex(atom, names));
+                piece.push_str("\\,", 0);
+            }
+            piece.push(&ket(basis, *idx));
+            res.push(piece);
+            continue;
+        }
+        let factored = [factored_form(coeff, ctx)];
+        let mut inner = series_pieces_with(&[value], &factored, "", false, names);
+        // One product or fraction needs no parentheses: its sign joins the sum.
+        if let [single] = inner.as_slice() {
+            let (negative, rest) = match single.text.strip_prefix('-') {
+                Some(rest) => (true, rest),
+                None => (false, single.text.as_str()),
+            };
+            if !has_top_level_sum(rest) {
+                let mut piece = operator(negative, k == 0);
+                piece.push_str(rest, single.width);
+                piece.push_str("\\,", 0);
+                piece.push(&ket(basis, *idx));
+                res.push(piece);
+                continue;
+            }
+        }
+        let mut opening = operator(false, k == 0);
+        opening.push_str("\\bigl(", 1);
+        if let Some(first) = inner.first_mut() {
+            opening.push(first);
+            *first = opening;
+        }
+        if let Some(last) = inner.last_mut() {
+            last.push_str("\\bigr)", 1);
+            last.push(&ket(basis, *idx));
+        }
+        res.extend(inner);
+    }
+    res
+}
+
+/// Whether typeset math has a `+` or `-` outside braces and `\\left`/`\\right` groups.
+fn has_top_level_sum(text: &str) -> bool {
+    let mut depth = 0i32;
+    for ch in text.chars() {
+        match ch {
+            '{' | '(' => depth += 1,
+            '}' | ')' => depth -= 1,
+            '+' | '-' if depth == 0 => return true,
+            _ => {}
+        }
+    }
+    false
+}
+
 fn state(vector: &SparseVec<RatFunc>, basis: &Basis, names: &[String]) -> Tex {
     if let [(idx, coeff)] = vector.entries() {
         if coeff.is_one() {

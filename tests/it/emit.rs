@@ -120,6 +120,22 @@ fn latex_corpus() -> Vec<(String, String)> {
             .to_string(),
     ));
     res.push(("not_split.clv".to_string(), NOT_SPLIT.to_string()));
+    // Issue #9, finding 10: a 16-state effective Hamiltonian is listed by its non-zero entries,
+    // and a transmon coupled to a resonator has a fourth-order numerator too long for a line
+    // (it overflowed by about 1000pt), and so are its state corrections.
+    res.push((
+        "sixteen_states.clv".to_string(),
+        "param J, B, D > 0\nspace a = spin(3/2)\nspace b = spin(3/2)\nH0 = D + 0 * a.z\n\
+         V = J * (a.x * b.x + a.y * b.y + a.z * b.z) + B * (a.z + b.x)\norder 2\n"
+            .to_string(),
+    ));
+    res.push((
+        "transmon_energies.clv".to_string(),
+        "param wq > 0, wr > 0, alpha, g\nspace b = oscillator(4)\nspace a = oscillator(8)\n\
+         H0 = wq * b.n + alpha / 2 * b.n * (b.n - 1) + wr * a.n\n\
+         V = g * (b.raise + b.lower) * (a.raise + a.lower)\nfocus wq\norder 4\n"
+            .to_string(),
+    ));
     res.push(("cut_oscillator.clv".to_string(), CUT_OSCILLATOR.to_string()));
     // Long symbolic coefficients and a wide table.
     res.push((
