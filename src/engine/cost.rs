@@ -3,9 +3,14 @@
 //! Start from [`estimate`]; the unit is arbitrary and calibrated on this project's own examples.
 
 use crate::model::Model;
+use crate::spectrum::Spectrum;
 
-/// The most work units a derivation may need (about half a minute of work on a small machine).
-pub const MAX_WORK: u128 = 5_000_000_000;
+/// The most work units the series of a derivation may need (seconds on a small machine).
+pub const MAX_WORK: u128 = 1_000_000_000;
+
+/// The most work, in products of big integers, for the characteristic polynomials of the
+/// secular matrices: `d^4 / 4` for a model space of `d` states.
+pub const MAX_SECULAR_WORK: u128 = 400_000_000;
 
 /// The most terms that a coefficient of the series may be expected to reach: the number of
 /// monomials of degree at most N in the parameters that occur.
@@ -22,48 +27,94 @@ pub struct Cost {
     pub n_params: u32,
     /// The largest model space (states).
     pub largest_space: usize,
+    /// The work of the secular characteristic polynomials, in units of [`MAX_SECULAR_WORK`].
+    pub secular_work: u128,
 }
 
 impl Cost {
     /// Whether the derivation is within [`MAX_WORK`] and [`MAX_TERMS_PER_COEFFICIENT`].
     pub fn is_allowed(&self) -> bool {
-        self.work <= MAX_WORK && self.terms_per_coefficient <= MAX_TERMS_PER_COEFFICIENT
+        self.work <= MAX_WORK
+            && self.secular_work <= MAX_SECULAR_WORK
+            && self.terms_per_coefficient <= MAX_TERMS_PER_COEFFICIENT
     }
 }
 
 /// The estimated cost of deriving `model` to `order` with model spaces of `space_dims` states
-/// in a space of `n_states` states.
+/// in a space of `n_states` states whose H0 has the levels of `spectrum`.
 ///
 /// Per model space of `d` states the wave operator touches `n d` entries for each pair of
 /// orders (`n d N^2`); the effective Hamiltonian, its metric and the secular splitting multiply
-/// `d x d` matrices (`d^3 N^2`); a secular matrix is split through its characteristic polynomial
-/// over big integers (`d^4 / 4` products of big numbers, weighted as ten units). Each unit is
-/// multiplied by the expected size of an entry: its number of terms (symbolic models) or a
-/// weight for the big integers of a numeric one, both growing with the order.
-pub fn estimate(model: &Model, n_states: usize, space_dims: &[usize], order: u32) -> Cost {
+/// `d x d` matrices (`d^3 N^2`). Each unit is multiplied by the expected size of an entry: for a
+/// symbolic model its number of terms, `C(N + P, P)` (one more symbol in a model space of several
+/// states, whose secular roots may need one), times the number of distinct symbolic energy
+/// differences to the power `N - 1` (the denominators that a coefficient of order `N` collects
+/// when H0 has parameters); for a numeric one a weight for its big integers; both grow with the
+/// order. Apart from that a secular matrix is split through its characteristic polynomial over big
+/// integers, `d^4 / 4` products.
+pub fn estimate(
+    model: &Model,
+    spectrum: &Spectrum,
+    n_states: usize,
+    space_dims: &[usize],
+    order: u32,
+) -> Cost {
     let n_params = params_in_use(model);
     let order_u = u128::from(order);
     let terms_per_coefficient = binomial_saturating(order_u + u128::from(n_params), n_params);
     let growth = 1 + order_u / 8;
-    let per_entry = if n_params == 0 {
-        10 * growth
-    } else {
-        terms_per_coefficient.min(MAX_TERMS_PER_COEFFICIENT + 1) * growth
-    };
+    let denominators = symbolic_differences(spectrum);
+    let denominator_growth =
+        denominators.max(1).checked_pow(order.saturating_sub(1)).unwrap_or(u128::MAX);
     let n = n_states as u128;
     let mut work: u128 = 0;
+    let mut secular_work: u128 = 0;
     for &d in space_dims {
+        let per_entry = if n_params == 0 {
+            10 * growth
+        } else {
+            let symbols = n_params + u32::from(d > 1);
+            binomial_saturating(order_u + u128::from(symbols), symbols)
+                .min(MAX_TERMS_PER_COEFFICIENT + 1)
+                .saturating_mul(growth)
+                .saturating_mul(denominator_growth)
+        };
         let d = d as u128;
         let sparse = n * d * order_u * order_u;
-        let dense = d * d * d * order_u * order_u + 10 * d * d * d * d / 4;
+        let dense = d * d * d * order_u * order_u;
         work = work.saturating_add((sparse + dense).saturating_mul(per_entry));
+        secular_work = secular_work.saturating_add(d * d * d * d / 4);
     }
     Cost {
         work,
         terms_per_coefficient,
         n_params,
         largest_space: space_dims.iter().copied().max().unwrap_or(0),
+        secular_work,
     }
+}
+
+/// The number of distinct energy differences between levels that depend on the parameters
+/// (counted up to a constant factor, among the first levels, and at most 64).
+fn symbolic_differences(spectrum: &Spectrum) -> u128 {
+    let energies: Vec<_> = spectrum.levels.iter().take(100).map(|l| &l.energy).collect();
+    let mut seen: Vec<crate::exact::Poly> = Vec::new();
+    for (i, a) in energies.iter().enumerate() {
+        for b in &energies[i + 1..] {
+            let difference = (*a).clone() - *b;
+            if difference.as_constant().is_some() {
+                continue;
+            }
+            let key = difference.numer().monic();
+            if !seen.contains(&key) {
+                seen.push(key);
+                if seen.len() == 64 {
+                    return 64;
+                }
+            }
+        }
+    }
+    seen.len() as u128
 }
 
 /// The number of parameters that occur in H0 or a perturbation.

@@ -310,7 +310,7 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
         .iter()
         .map(|levels| working.level_of.iter().filter(|l| levels.contains(l)).count())
         .collect();
-    let estimate = cost::estimate(model, n as usize, &space_dims, order);
+    let estimate = cost::estimate(model, &spectrum, n as usize, &space_dims, order);
     if !estimate.is_allowed() {
         return Err(EngineError::Infeasible(too_costly(&estimate, spaces.len(), n, order)));
     }
@@ -370,7 +370,12 @@ fn too_costly(estimate: &cost::Cost, n_spaces: usize, n_states: u64, order: u32)
     if estimate.n_params > 0 {
         advice.push("write fixed numbers for some parameters");
     }
-    let why = if estimate.terms_per_coefficient > cost::MAX_TERMS_PER_COEFFICIENT {
+    let why = if estimate.secular_work > cost::MAX_SECULAR_WORK {
+        format!(
+            "a model space of {} states is too large for its secular equation to be split exactly",
+            estimate.largest_space
+        )
+    } else if estimate.terms_per_coefficient > cost::MAX_TERMS_PER_COEFFICIENT {
         format!(
             "a coefficient of order {order} in {params} can have {} terms (cleave allows {})",
             estimate.terms_per_coefficient,

@@ -246,3 +246,24 @@ fn issue_12_plot_to_stdout_keeps_the_table() {
     assert!(stdout.starts_with("<svg"), "{stdout}");
     assert!(stderr.contains("Numeric check of model.clv"), "{stderr}");
 }
+
+/// Issue 12, items 1-7: `--max-seconds` stops a long derivation cleanly with exit status 1 and
+/// advice, and leaves the outputs as they were.
+#[test]
+fn issue_12_max_seconds_stops_cleanly() {
+    // A quasi-degenerate Lambda scheme to order 30: within the up-front estimate, yet many
+    // seconds of work.
+    let model = "param wp, ws\nspace a = levels(G1, G2, E)\nH0 = 7/4 * |G2><G2| + 10 * |E><E|\n\
+                 V = wp * (|E><G1| + |G1><E|) + ws * (|E><G2| + |G2><E|)\nfocus 0, 7/4\norder 30\n";
+    let dir = dir_with_model(model);
+    std::fs::write(dir.path().join("a.json"), "old").expect("write");
+    let args = ["derive", "model.clv", "--json", "a.json", "--max-seconds", "1"];
+    let (status, stderr) = run_in(dir.path(), &args, std::process::Stdio::null());
+    assert_eq!(status, 1, "{stderr}");
+    assert!(
+        stderr.contains("stopped after 1 s (--max-seconds 1); nothing was written"),
+        "{stderr}"
+    );
+    assert_eq!(std::fs::read_to_string(dir.path().join("a.json")).expect("read"), "old");
+    assert_eq!(listing(dir.path()), ["a.json", "model.clv"]);
+}
