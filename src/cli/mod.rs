@@ -188,8 +188,28 @@ impl Loaded {
 
 fn load(path: &Path) -> Result<Loaded, Failure> {
     let name = path.display().to_string();
-    let text = std::fs::read_to_string(path)
+    let bytes = std::fs::read(path)
         .map_err(|err| Failure::bad_input(format!("{name}: cannot read the model: {err}")))?;
+    let text = match String::from_utf8(bytes) {
+        Ok(text) => text,
+        Err(err) => {
+            // Located at the first byte that is not UTF-8, with the text before it.
+            let valid = err.utf8_error().valid_up_to();
+            let bytes = err.into_bytes();
+            let prefix = String::from_utf8_lossy(&bytes[..valid]).into_owned();
+            let rest = String::from_utf8_lossy(&bytes[valid..]).into_owned();
+            let diagnostic = Diagnostic::new(
+                format!(
+                    "the model is not UTF-8 text (byte 0x{:02X} here); save it as UTF-8",
+                    bytes[valid]
+                ),
+                crate::diagnostics::Span::new(valid, valid),
+            );
+            return Err(Failure::bad_input(diagnostic.render(&(prefix + &rest), &name)));
+        }
+    };
+    // A byte-order mark is no part of the model.
+    let text = text.strip_prefix('\u{feff}').map(str::to_string).unwrap_or(text);
     match crate::load(&text) {
         Ok((model, source_map)) => Ok(Loaded { model, source_map, text, name }),
         Err(diagnostic) => Err(Failure::bad_input(diagnostic.render(&text, &name))),
