@@ -439,3 +439,14 @@ fn issue_12_value_size_limits() {
     )
     .is_ok());
 }
+
+/// Issue 12, item 11: parameters may not take the names the outputs use for the expansion
+/// parameter (`lambda`) and the secular variable (`x`).
+#[test]
+fn issue_12_reserved_parameter_names() {
+    let model =
+        |name: &str| format!("param {name}\nspace q = oscillator(3)\nH0 = q.n\nV = {name} * q.n\n");
+    check_refused(&model("lambda"), "1:7", "`lambda` is a reserved name");
+    check_refused(&model("x"), "1:7", "`x` is the variable of the secular equations");
+    assert!(cleave::load(&model("lam")).is_ok());
+}
