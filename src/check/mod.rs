@@ -8,8 +8,45 @@ use crate::engine::Derivation;
 use crate::exact::{RatFunc, Rational};
 use crate::model::Model;
 
-/// Largest product space `cleave check` diagonalizes densely.
-pub const MAX_CHECK_DIMENSION: usize = 1200;
+/// Largest matrix `cleave check` diagonalizes densely, at every point of its grid of
+/// [`N_LAMBDAS`] values: the product space, doubled when H(lambda) is complex (see [`verify`]).
+/// About ten seconds of diagonalization on a small machine.
+pub const MAX_CHECK_DIMENSION: usize = 600;
+
+/// The number of lambda values at which H(lambda) is diagonalized.
+pub const N_LAMBDAS: usize = 24;
+
+/// Why `model` is too large to check numerically at the parameter values of `options`, if it is;
+/// cheap, so that a caller can ask before deriving anything.
+pub fn too_large(model: &Model, options: &CheckOptions) -> Option<String> {
+    let params = param_values(model, options);
+    let n = model.basis().dimension();
+    let complex = n <= MAX_CHECK_DIMENSION && is_complex(model, &params);
+    let size = if complex { 2 * n } else { n };
+    (size > MAX_CHECK_DIMENSION).then(|| {
+        let doubled = if complex { ", doubled because H(lambda) is complex," } else { "" };
+        format!(
+            "the numeric check diagonalizes a matrix of {size} rows{doubled} at {N_LAMBDAS} values \
+             of lambda, and at most {MAX_CHECK_DIMENSION} rows: lower an oscillator cutoff to check"
+        )
+    })
+}
+
+/// The parameter values of `options` in declaration order; those not given are 1.
+fn param_values(model: &Model, options: &CheckOptions) -> Vec<f64> {
+    model
+        .param_names()
+        .iter()
+        .map(|n| options.at.iter().find(|(m, _)| m == n).map_or(1.0, |(_, v)| v.to_f64()))
+        .collect()
+}
+
+/// Whether some entry of H0 or a perturbation is complex at these parameter values.
+fn is_complex(model: &Model, params: &[f64]) -> bool {
+    std::iter::once(model.h0()).chain(model.perturbations()).any(|op| {
+        op.triplets().any(|(_, _, v)| evaluate(v, params).is_some_and(|(_, im)| im != 0.0))
+    })
+}
 
 /// Options of `cleave check`.
 #[derive(Clone, Debug, Default)]
@@ -62,27 +99,15 @@ pub struct BranchCheck {
 /// parameter values of `options` over a geometric grid of small `lambda`.
 pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) -> Verification {
     let names = model.param_names();
-    let params: Vec<f64> = names
-        .iter()
-        .map(|n| options.at.iter().find(|(m, _)| m == n).map_or(1.0, |(_, v)| v.to_f64()))
-        .collect();
+    let params = param_values(model, options);
     let at: Vec<(String, f64)> = names.iter().cloned().zip(params.iter().copied()).collect();
     let mut symbols = params.clone();
     symbols.extend(derivation.roots.iter().map(|r| r.approximation().to_f64()));
     let n = model.basis().dimension();
-    if n > MAX_CHECK_DIMENSION {
-        return Verification {
-            at,
-            branches: Vec::new(),
-            skipped: Some(format!(
-                "the product space has {n} states; the numeric check diagonalizes at most \
-                 {MAX_CHECK_DIMENSION}: lower an oscillator cutoff to check"
-            )),
-        };
+    if let Some(why) = too_large(model, options) {
+        return Verification { at, branches: Vec::new(), skipped: Some(why) };
     }
-    let complex = std::iter::once(model.h0()).chain(model.perturbations()).any(|op| {
-        op.triplets().any(|(_, _, v)| evaluate(v, &params).is_some_and(|(_, im)| im != 0.0))
-    });
+    let complex = is_complex(model, &params);
     // A complex Hermitian A + iB becomes the real symmetric [[A, -B], [B, A]], whose spectrum is
     // that of A + iB with every eigenvalue twice; a real one is used as it is.
     let size = if complex { 2 * n } else { n };
@@ -110,7 +135,7 @@ pub fn verify(model: &Model, derivation: &Derivation, options: &CheckOptions) ->
         };
     };
     let order = options.order.unwrap_or(derivation.order).min(derivation.order);
-    let lambdas: Vec<f64> = (0..24).map(|k| 0.5 * 0.7f64.powi(k)).collect();
+    let lambdas: Vec<f64> = (0..N_LAMBDAS as i32).map(|k| 0.5 * 0.7f64.powi(k)).collect();
     let spectra: Vec<Vec<f64>> = lambdas
         .iter()
         .map(|&lambda| {

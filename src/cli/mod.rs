@@ -275,6 +275,11 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
     // The series is derived two orders further than tested: those coefficients predict the
     // error of the order-N series, which makes the numeric test sharp.
     let tested = order(args.order, &loaded)?;
+    // Refused before deriving: the derivation would be wasted on a matrix too large to check.
+    let size_options = CheckOptions { at: at.clone(), order: Some(tested) };
+    if let Some(why) = check::too_large(&loaded.model, &size_options) {
+        return Err(Failure::infeasible(format!("{}: {why}", loaded.name)));
+    }
     let extra = if tested.saturating_add(2) <= engine::MAX_ORDER { 2 } else { 0 };
     let options = DeriveOptions::new(tested + extra);
     let derivation =

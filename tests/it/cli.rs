@@ -334,3 +334,29 @@ fn issue_12_messages_are_located_on_odd_bytes() {
     assert!(stderr.starts_with("model.clv:3:"), "{stderr}");
     assert!(stderr.len() < 1000, "the echoed line is cut: {} bytes", stderr.len());
 }
+
+/// Issue 12, item 14: `check` refuses before deriving a matrix too large to diagonalize, counting
+/// the doubling of a complex H(lambda): 400 states are checked when real, refused when complex.
+#[test]
+fn issue_12_check_size_counts_complex_doubling() {
+    let real =
+        "param g\nspace q = oscillator(400)\nH0 = q.n\nV = g * (q.lower + q.raise)\nfocus 0\n";
+    let complex =
+        "param g\nspace q = oscillator(400)\nH0 = q.n\nV = g * i * (q.lower - q.raise)\nfocus 0\n";
+    // The real one is within the limit (asked of the library: diagonalizing it in a debug build
+    // would make a slow test).
+    let (model, _) = cleave::load(real).expect("lowers");
+    assert_eq!(cleave::check::too_large(&model, &cleave::check::CheckOptions::default()), None);
+    let (status, _, stderr) = run_cleave(complex, &["check", "model.clv", "--order", "1"]);
+    assert_eq!(status, 1, "{stderr}");
+    assert!(
+        stderr.contains("a matrix of 800 rows, doubled because H(lambda) is complex"),
+        "{stderr}"
+    );
+    let (status, _, stderr) = run_cleave(
+        "space q = oscillator(1200)\nH0 = q.n\nV = q.lower + q.raise\nfocus 0\n",
+        &["check", "model.clv"],
+    );
+    assert_eq!(status, 1, "{stderr}");
+    assert!(stderr.contains("a matrix of 1200 rows at 24 values of lambda"), "{stderr}");
+}
