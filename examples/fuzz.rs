@@ -1,7 +1,8 @@
 //! The fuzz campaign: models generated from the grammar and mutations of the bundled examples run
 //! through `levels`, `derive` and `check`, each in a child process under a time and memory
 //! budget. Every panic, abort, time-out, memory overrun or bad-input message without a location
-//! is a finding, saved with its command as a fixture; the run fails when there is any. Each case
+//! is a finding, saved with its command as a fixture (move it to `tests/fuzz_fixtures/`, where a
+//! test replays every one); the run fails when there is any. Each case
 //! passes `--max-seconds` and `--max-memory` below those budgets, so a case that the command line
 //! stops cleanly (exit status 1 with advice) is an answer, not a finding.
 //!

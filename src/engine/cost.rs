@@ -3,10 +3,9 @@
 //! Start from [`estimate`]; the unit is arbitrary and calibrated on this project's own examples.
 
 use crate::model::Model;
-use crate::spectrum::Spectrum;
 
 /// The most work units the series of a derivation may need (seconds on a small machine).
-pub const MAX_WORK: u128 = 1_000_000_000;
+pub const MAX_WORK: u128 = 1_200_000_000;
 
 /// The most work, in products of big integers, for the characteristic polynomials of the
 /// secular matrices: `d^4 / 4` for a model space of `d` states.
@@ -41,31 +40,24 @@ impl Cost {
 }
 
 /// The estimated cost of deriving `model` to `order` with model spaces of `space_dims` states
-/// in a space of `n_states` states whose H0 has the levels of `spectrum`.
+/// in a space of `n_states` states.
 ///
 /// Per model space of `d` states the wave operator touches `n d` entries for each pair of
 /// orders (`n d N^2`); the effective Hamiltonian, its metric and the secular splitting multiply
 /// `d x d` matrices (`d^3 N^2`). Each unit is multiplied by the expected size of an entry: for a
 /// symbolic model its number of terms, `C(N + P, P)` (one more symbol in a model space of several
-/// states, whose secular roots may need one), times the number of distinct symbolic energy
-/// differences to the power `N - 1` (the denominators that a coefficient of order `N` collects
-/// when H0 has parameters); for a numeric one a weight for its big integers; both grow with the
-/// order. Apart from that a secular matrix is split through its characteristic polynomial over big
-/// integers, `d^4 / 4` products.
-pub fn estimate(
-    model: &Model,
-    spectrum: &Spectrum,
-    n_states: usize,
-    space_dims: &[usize],
-    order: u32,
-) -> Cost {
+/// states, whose secular roots may need one); for a numeric one a weight for its big integers;
+/// both grow with the order. Apart from that a secular matrix is split through its
+/// characteristic polynomial over big integers, `d^4 / 4` products.
+///
+/// The estimate does not see how many distinct energy denominators a symbolic H0 brings into
+/// the coefficients (a dense V over many symbolic levels can cost far more than it predicts);
+/// `--max-seconds` and `--max-memory` of the command line stop such a run cleanly.
+pub fn estimate(model: &Model, n_states: usize, space_dims: &[usize], order: u32) -> Cost {
     let n_params = params_in_use(model);
     let order_u = u128::from(order);
     let terms_per_coefficient = binomial_saturating(order_u + u128::from(n_params), n_params);
     let growth = 1 + order_u / 8;
-    let denominators = symbolic_differences(spectrum);
-    let denominator_growth =
-        denominators.max(1).checked_pow(order.saturating_sub(1)).unwrap_or(u128::MAX);
     let n = n_states as u128;
     let mut work: u128 = 0;
     let mut secular_work: u128 = 0;
@@ -77,7 +69,6 @@ pub fn estimate(
             binomial_saturating(order_u + u128::from(symbols), symbols)
                 .min(MAX_TERMS_PER_COEFFICIENT + 1)
                 .saturating_mul(growth)
-                .saturating_mul(denominator_growth)
         };
         let d = d as u128;
         let sparse = n * d * order_u * order_u;
@@ -92,29 +83,6 @@ pub fn estimate(
         largest_space: space_dims.iter().copied().max().unwrap_or(0),
         secular_work,
     }
-}
-
-/// The number of distinct energy differences between levels that depend on the parameters
-/// (counted up to a constant factor, among the first levels, and at most 64).
-fn symbolic_differences(spectrum: &Spectrum) -> u128 {
-    let energies: Vec<_> = spectrum.levels.iter().take(100).map(|l| &l.energy).collect();
-    let mut seen: Vec<crate::exact::Poly> = Vec::new();
-    for (i, a) in energies.iter().enumerate() {
-        for b in &energies[i + 1..] {
-            let difference = (*a).clone() - *b;
-            if difference.as_constant().is_some() {
-                continue;
-            }
-            let key = difference.numer().monic();
-            if !seen.contains(&key) {
-                seen.push(key);
-                if seen.len() == 64 {
-                    return 64;
-                }
-            }
-        }
-    }
-    seen.len() as u128
 }
 
 /// The number of parameters that occur in H0 or a perturbation.

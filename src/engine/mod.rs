@@ -310,7 +310,7 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
         .iter()
         .map(|levels| working.level_of.iter().filter(|l| levels.contains(l)).count())
         .collect();
-    let estimate = cost::estimate(model, &spectrum, n as usize, &space_dims, order);
+    let estimate = cost::estimate(model, n as usize, &space_dims, order);
     if !estimate.is_allowed() {
         return Err(EngineError::Infeasible(too_costly(&estimate, spaces.len(), n, order)));
     }
