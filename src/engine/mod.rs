@@ -383,8 +383,9 @@ fn too_costly(estimate: &cost::Cost, n_spaces: usize, n_states: u64, order: u32)
         )
     } else {
         format!(
-            "{n_spaces} model space(s), the largest of {} states, in {n_states} states with {params}              to order {order} would take far too long (estimated work 10^{} units, cleave allows \
-             10^{})",
+            "{n_spaces} model space(s), the largest of {} states, in {n_states} states with \
+             {params} to order {order} would take far too long (estimated work 10^{} units, \
+             cleave allows 10^{})",
             estimate.largest_space,
             estimate.work.max(1).ilog10(),
             cost::MAX_WORK.ilog10()

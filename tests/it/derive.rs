@@ -854,6 +854,13 @@ fn issue_12_costly_derivations_are_refused_up_front() {
     // Order 1000 of a four-state model with two parameters.
     let axial = "param D > 0, b\nspace s = spin(3/2)\nH0 = D * s.z^2\nV = b * s.x\n";
     check_too_costly(axial, 1000, "lower the order");
+    // Every level of a long numeric oscillator, to a high order.
+    check_too_costly(
+        "space q = oscillator(2000)\nH0 = q.n\nV = q.lower + q.raise\n",
+        40,
+        "2000 model space(s), the largest of 1 states, in 2000 states with no parameters to order \
+         40 would take far too long",
+    );
     // Ten spins 1/2 in an Ising chain, focus on a level of 252 states: the dense secular
     // algebra of the model space, not the sparse count, is what is too large.
     let mut chain = String::from("param J\n");
