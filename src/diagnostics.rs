@@ -41,14 +41,52 @@ impl fmt::Display for LineCol {
 }
 
 /// The line and column of byte `offset` in `source`. Offsets past the end, or inside a
-/// multi-byte character, are clamped to the nearest character boundary before them.
+/// multi-byte character, are clamped to the nearest character boundary before them. Lines end
+/// at `\n`, `\r\n` or a lone `\r`, as in the grammar.
 pub fn line_col(source: &str, offset: usize) -> LineCol {
     let offset = floor_char_boundary(source, offset);
     let before = &source[..offset];
-    let line = before.matches('\n').count() + 1;
-    let line_start = before.rfind('\n').map_or(0, |idx| idx + 1);
+    let line = before.bytes().enumerate().filter(|&(i, b)| is_line_break(source, i, b)).count() + 1;
+    let line_start = line_start(source, offset);
     let col = source[line_start..offset].chars().count() + 1;
     LineCol { line, col }
+}
+
+/// Whether byte `b` at `idx` ends a line: `\n`, or a `\r` not followed by `\n`.
+fn is_line_break(source: &str, idx: usize, b: u8) -> bool {
+    b == b'\n' || (b == b'\r' && source.as_bytes().get(idx + 1) != Some(&b'\n'))
+}
+
+/// The first byte of the line holding `offset`.
+fn line_start(source: &str, offset: usize) -> usize {
+    source.as_bytes()[..offset]
+        .iter()
+        .enumerate()
+        .rev()
+        .find(|&(i, &b)| is_line_break(source, i, b))
+        .map_or(0, |(i, _)| i + 1)
+}
+
+/// One past the last byte of the line holding `offset`, before its line break.
+fn line_end(source: &str, offset: usize) -> usize {
+    source.as_bytes()[offset..]
+        .iter()
+        .position(|&b| b == b'\n' || b == b'\r')
+        .map_or(source.len(), |idx| offset + idx)
+}
+
+/// Characters of an echoed line shown around the caret; longer lines are cut.
+const ECHO_WIDTH: usize = 100;
+
+/// A character as it is echoed: control characters as their visible Unicode pictures (U+2400
+/// and on), so that a NUL or an escape byte never reaches the terminal raw.
+fn visible(c: char) -> char {
+    match c {
+        '\t' => '\t',
+        c if (c as u32) < 0x20 => char::from_u32(0x2400 + c as u32).unwrap_or('?'),
+        '\u{7f}' => '\u{2421}',
+        c => c,
+    }
 }
 
 fn floor_char_boundary(source: &str, offset: usize) -> usize {
@@ -92,16 +130,29 @@ impl Diagnostic {
         let start = floor_char_boundary(source, self.span.start);
         let end = floor_char_boundary(source, self.span.end).max(start);
         let position = line_col(source, start);
-        let line_start = source[..start].rfind('\n').map_or(0, |idx| idx + 1);
-        let line_end = source[start..].find('\n').map_or(source.len(), |idx| start + idx);
-        let line_text = source[line_start..line_end].trim_end_matches('\r');
+        let line_start = line_start(source, start);
+        let line_end = line_end(source, start);
+        // A long line is cut to a window around the caret, marked with `...` at the cuts.
+        let before: Vec<char> = source[line_start..start].chars().collect();
+        let after: Vec<char> = source[start..line_end].chars().collect();
+        let skip = before.len().saturating_sub(ECHO_WIDTH / 2);
+        let keep_after = ECHO_WIDTH.saturating_sub(before.len() - skip);
+        let mut line_text: String = if skip > 0 { "...".to_string() } else { String::new() };
+        line_text.extend(
+            before[skip..].iter().chain(after.iter().take(keep_after)).map(|&c| visible(c)),
+        );
+        if after.len() > keep_after {
+            line_text.push_str("...");
+        }
         // Tabs are copied into the caret line so the caret stays aligned whatever the tab width.
-        let pad: String =
-            source[line_start..start].chars().map(|c| if c == '\t' { '\t' } else { ' ' }).collect();
-        let n_carets = source[start..end.min(line_end)].chars().count().max(1);
+        let mut pad: String = if skip > 0 { "   ".to_string() } else { String::new() };
+        pad.extend(before[skip..].iter().map(|&c| if c == '\t' { '\t' } else { ' ' }));
+        let n_carets = source[start..end.min(line_end)].chars().count().clamp(1, keep_after.max(1));
         let number = position.line.to_string();
         let gutter = " ".repeat(number.len());
-        let mut res = format!("{file_name}:{position}: {}\n", self.message);
+        let message: String =
+            self.message.chars().map(|c| if c == '\n' { c } else { visible(c) }).collect();
+        let mut res = format!("{file_name}:{position}: {message}\n");
         res.push_str(&format!("{gutter} |\n{number} | {line_text}\n"));
         res.push_str(&format!("{gutter} | {pad}{}\n", "^".repeat(n_carets)));
         for hint in &self.hints {

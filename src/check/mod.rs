@@ -31,8 +31,45 @@ use crate::model::{Model, Operator};
 use hp::{Fix, Precision};
 pub use radius::Radius;
 
-/// Largest product space `cleave check` diagonalizes densely.
-pub const MAX_CHECK_DIMENSION: usize = 1200;
+/// Largest matrix `cleave check` diagonalizes densely, at every point of its grid of
+/// [`N_LAMBDAS`] values: the product space, doubled when H(lambda) is complex (see [`verify`]).
+/// About ten seconds of diagonalization on a small machine.
+pub const MAX_CHECK_DIMENSION: usize = 600;
+
+/// The number of lambda values at which H(lambda) is diagonalized.
+pub const N_LAMBDAS: usize = 24;
+
+/// Why `model` is too large to check numerically at the parameter values of `options`, if it is;
+/// cheap, so that a caller can ask before deriving anything.
+pub fn too_large(model: &Model, options: &CheckOptions) -> Option<String> {
+    let params = param_values(model, options);
+    let n = model.basis().dimension();
+    let complex = n <= MAX_CHECK_DIMENSION && is_complex(model, &params);
+    let size = if complex { 2 * n } else { n };
+    (size > MAX_CHECK_DIMENSION).then(|| {
+        let doubled = if complex { ", doubled because H(lambda) is complex," } else { "" };
+        format!(
+            "the numeric check diagonalizes a matrix of {size} rows{doubled} at {N_LAMBDAS} values \
+             of lambda, and at most {MAX_CHECK_DIMENSION} rows: lower an oscillator cutoff to check"
+        )
+    })
+}
+
+/// The parameter values of `options` in declaration order; those not given are 1.
+fn param_values(model: &Model, options: &CheckOptions) -> Vec<f64> {
+    model
+        .param_names()
+        .iter()
+        .map(|n| options.at.iter().find(|(m, _)| m == n).map_or(1.0, |(_, v)| v.to_f64()))
+        .collect()
+}
+
+/// Whether some entry of H0 or a perturbation is complex at these parameter values.
+fn is_complex(model: &Model, params: &[f64]) -> bool {
+    std::iter::once(model.h0()).chain(model.perturbations()).any(|op| {
+        op.triplets().any(|(_, _, v)| evaluate(v, params).is_some_and(|(_, im)| im != 0.0))
+    })
+}
 
 /// How many orders beyond the one tested `cleave check` derives: they predict the error.
 pub const EXTRA_ORDERS: u32 = 4;

@@ -34,6 +34,8 @@ pub enum Outcome {
 struct Cli {
     #[command(subcommand)]
     command: Command,
+    #[command(flatten)]
+    budget: Budget,
 }
 
 #[derive(Debug, Subcommand)]
@@ -44,6 +46,17 @@ enum Command {
     Derive(DeriveArgs),
     /// Numeric verification against exact diagonalization of H0 + lambda V.
     Check(CheckArgs),
+}
+
+/// Limits on one run; past either the run stops with exit status 1 and writes nothing.
+#[derive(Debug, Args, Clone, Copy)]
+struct Budget {
+    /// Stop after S seconds of wall-clock time.
+    #[arg(long, value_name = "S", global = true)]
+    max_seconds: Option<u64>,
+    /// Stop when more than M MiB of memory are in use (Linux).
+    #[arg(long, value_name = "M", global = true)]
+    max_memory: Option<u64>,
 }
 
 #[derive(Debug, Args)]
@@ -137,6 +150,7 @@ where
             return if err.use_stderr() { Outcome::BadInput } else { Outcome::Success };
         }
     };
+    let _watchdog = Watchdog::start(cli.budget);
     match execute(cli.command) {
         Ok(()) => Outcome::Success,
         Err(failure) => {
@@ -219,8 +233,28 @@ impl Loaded {
 
 fn load(path: &Path) -> Result<Loaded, Failure> {
     let name = path.display().to_string();
-    let text = std::fs::read_to_string(path)
+    let bytes = std::fs::read(path)
         .map_err(|err| Failure::bad_input(format!("{name}: cannot read the model: {err}")))?;
+    let text = match String::from_utf8(bytes) {
+        Ok(text) => text,
+        Err(err) => {
+            // Located at the first byte that is not UTF-8, with the text before it.
+            let valid = err.utf8_error().valid_up_to();
+            let bytes = err.into_bytes();
+            let prefix = String::from_utf8_lossy(&bytes[..valid]).into_owned();
+            let rest = String::from_utf8_lossy(&bytes[valid..]).into_owned();
+            let diagnostic = Diagnostic::new(
+                format!(
+                    "the model is not UTF-8 text (byte 0x{:02X} here); save it as UTF-8",
+                    bytes[valid]
+                ),
+                crate::diagnostics::Span::new(valid, valid),
+            );
+            return Err(Failure::bad_input(diagnostic.render(&(prefix + &rest), &name)));
+        }
+    };
+    // A byte-order mark is no part of the model.
+    let text = text.strip_prefix('\u{feff}').map(str::to_string).unwrap_or(text);
     match crate::load(&text) {
         Ok((model, source_map)) => Ok(Loaded { model, source_map, text, name }),
         Err(diagnostic) => Err(Failure::bad_input(diagnostic.render(&text, &name))),
@@ -330,6 +364,10 @@ fn check_command(args: CheckArgs) -> Result<(), Failure> {
     // the one tested: those coefficients predict the error of the order-N series.
     let tested = order(args.order, &loaded)?;
     let check_options = CheckOptions { at, order: Some(tested) };
+    // Refused before deriving: the derivation would be wasted on a matrix too large to check.
+    if let Some(why) = check::too_large(&loaded.model, &check_options) {
+        return Err(Failure::infeasible(format!("{}: {why}", loaded.name)));
+    }
     let (derivation, verification) = check::run(&loaded.model, &check_options)
         .map_err(|err| loaded.engine_failure(err, args.order.is_some()))?;
     let table = emit::check_report(&derivation, &verification, &loaded.name);
@@ -602,6 +640,9 @@ impl Outputs {
     /// temporary files renamed over their targets. A failure removes the temporary files and
     /// leaves every previous file as it was.
     fn write(self) -> Result<(), Failure> {
+        // From here on the watchdog lets the run finish: stopping it now could leave a
+        // temporary file behind.
+        WRITING.store(true, std::sync::atomic::Ordering::SeqCst);
         let mut staged: Vec<(PathBuf, PathBuf)> = Vec::new();
         let discard = |staged: &[(PathBuf, PathBuf)]| {
             for (temp, _) in staged {
@@ -675,6 +716,77 @@ fn write_synced(path: &Path, text: &str) -> std::io::Result<()> {
     let mut file = std::fs::File::create(path)?;
     file.write_all(text.as_bytes())?;
     file.sync_all()
+}
+
+/// Set once outputs are being written; the watchdog then no longer stops the run.
+static WRITING: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+/// A thread that ends the process with exit status 1 and a message once the run exceeds its
+/// [`Budget`]; it stops watching when dropped, at the end of [`run`].
+struct Watchdog {
+    done: Option<std::sync::Arc<std::sync::atomic::AtomicBool>>,
+}
+
+impl Watchdog {
+    fn start(budget: Budget) -> Watchdog {
+        use std::sync::atomic::{AtomicBool, Ordering};
+        if budget.max_seconds.is_none() && budget.max_memory.is_none() {
+            return Watchdog { done: None };
+        }
+        WRITING.store(false, Ordering::SeqCst);
+        let done = std::sync::Arc::new(AtomicBool::new(false));
+        let seen_done = done.clone();
+        let start = std::time::Instant::now();
+        std::thread::spawn(move || loop {
+            std::thread::sleep(std::time::Duration::from_millis(20));
+            if seen_done.load(Ordering::SeqCst) || WRITING.load(Ordering::SeqCst) {
+                return;
+            }
+            let elapsed = start.elapsed().as_secs();
+            let over_time = budget
+                .max_seconds
+                .filter(|&s| elapsed >= s)
+                .map(|s| format!("stopped after {s} s (--max-seconds {s})"));
+            let over_memory = budget.max_memory.and_then(|m| {
+                let used = resident_mib()?;
+                (used > m).then(|| format!("stopped at {used} MiB in use (--max-memory {m})"))
+            });
+            if let Some(why) = over_time.or(over_memory) {
+                let _ = std::io::stderr().write_all(
+                    format!(
+                        "{why}; nothing was written. Lower the order, focus on fewer levels \
+                         (`focus`), keep to one sector, cut oscillators shorter, or write fixed \
+                         numbers for some parameters\n"
+                    )
+                    .as_bytes(),
+                );
+                std::process::exit(1);
+            }
+        });
+        Watchdog { done: Some(done) }
+    }
+}
+
+impl Drop for Watchdog {
+    fn drop(&mut self) {
+        if let Some(done) = &self.done {
+            done.store(true, std::sync::atomic::Ordering::SeqCst);
+        }
+    }
+}
+
+/// Resident memory of this process in MiB, where `/proc` tells it.
+fn resident_mib() -> Option<u64> {
+    let status = std::fs::read_to_string("/proc/self/status").ok()?;
+    let kib: u64 = status
+        .lines()
+        .find_map(|l| l.strip_prefix("VmRSS:"))?
+        .trim()
+        .trim_end_matches("kB")
+        .trim()
+        .parse()
+        .ok()?;
+    Some(kib / 1024)
 }
 
 fn is_stdout(path: &Path) -> bool {

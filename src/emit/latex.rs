@@ -733,7 +733,7 @@ fn branch_series(out: &mut String, number: usize, branch: &Branch, ctx: &SpaceCo
 /// A coefficient series `c_0 + c_1 λ + ...` as display pieces, factored where that reads better.
 fn coefficient_pieces(coeffs: &[RatFunc], ctx: &SpaceContext<'_>) -> Vec<Tex> {
     let fractions: Vec<Fraction> = coeffs.iter().map(terms::fraction).collect();
-    let factored: Vec<Option<(bool, Tex)>> = coeffs.iter().map(|c| factored_tex(c, ctx)).collect();
+    let factored: Vec<Option<FactoredTex>> = coeffs.iter().map(|c| factored_form(c, ctx)).collect();
     let mut pieces = series_pieces_with(&fractions, &factored, "\\lambda", false, ctx.names);
     if pieces.is_empty() {
         pieces.push(Tex::new("0", 1));

@@ -19,6 +19,7 @@
 
 mod algebraic;
 mod bloch;
+pub mod cost;
 mod fast;
 mod notes;
 mod operator_form;
@@ -393,6 +394,14 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
         n_params: model.params().len() as u32,
         radicand_overflow: false,
     };
+    let space_dims: Vec<usize> = spaces
+        .iter()
+        .map(|levels| working.level_of.iter().filter(|l| levels.contains(l)).count())
+        .collect();
+    let estimate = cost::estimate(model, n as usize, &space_dims, order);
+    if !estimate.is_allowed() {
+        return Err(EngineError::Infeasible(too_costly(&estimate, spaces.len(), n, order)));
+    }
     for levels in spaces {
         let indices: Vec<usize> = (0..working.level_of.len())
             .filter(|&i| levels.contains(&working.level_of[i]))
@@ -446,6 +455,45 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
         roots: ctx.roots,
         quantities,
     })
+}
+
+/// The refusal of a derivation that [`cost::estimate`] finds too costly, with what to change.
+fn too_costly(estimate: &cost::Cost, n_spaces: usize, n_states: u64, order: u32) -> String {
+    let params = match estimate.n_params {
+        0 => "no parameters".to_string(),
+        1 => "1 parameter".to_string(),
+        k => format!("{k} parameters"),
+    };
+    let mut advice = vec!["lower the order"];
+    if estimate.largest_space > 1 || n_spaces > 1 {
+        advice.push("focus on fewer levels (`focus`)");
+    }
+    advice.push("keep to one sector of a conserved quantity, or cut oscillators shorter");
+    if estimate.n_params > 0 {
+        advice.push("write fixed numbers for some parameters");
+    }
+    let why = if estimate.secular_work > cost::MAX_SECULAR_WORK {
+        format!(
+            "a model space of {} states is too large for its secular equation to be split exactly",
+            estimate.largest_space
+        )
+    } else if estimate.terms_per_coefficient > cost::MAX_TERMS_PER_COEFFICIENT {
+        format!(
+            "a coefficient of order {order} in {params} can have {} terms (cleave allows {})",
+            estimate.terms_per_coefficient,
+            cost::MAX_TERMS_PER_COEFFICIENT
+        )
+    } else {
+        format!(
+            "{n_spaces} model space(s), the largest of {} states, in {n_states} states with \
+             {params} to order {order} would take far too long (estimated work 10^{} units, \
+             cleave allows 10^{})",
+            estimate.largest_space,
+            estimate.work.max(1).ilog10(),
+            cost::MAX_WORK.ilog10()
+        )
+    };
+    format!("this derivation is too large: {why}; {}", advice.join(", "))
 }
 
 /// Rewrites H0 + V in the basis of H0 eigenvectors: `A_0` diagonal, metric `g_i = <u_i, u_i>`,

@@ -506,6 +506,18 @@ fn check_declarations(file: &ast::File) -> Result<(), Diagnostic> {
         match statement {
             ast::Statement::Param(decl) => {
                 for item in &decl.items {
+                    // The outputs write the series in `lambda` and secular equations in `x`;
+                    // a parameter of either name would read as them.
+                    let meaning = match item.name.name.as_str() {
+                        "lambda" => Some("`lambda` is the expansion parameter of the series"),
+                        "x" => Some("`x` is the variable of the secular equations"),
+                        _ => None,
+                    };
+                    if let Some(meaning) = meaning {
+                        return Err(LowerError::Reserved { name: item.name.name.clone() })
+                            .at(item.name.span)
+                            .map_err(|d| d.with_hint(format!("{meaning}; choose another name")));
+                    }
                     declare(&item.name)?;
                 }
             }

@@ -1044,3 +1044,55 @@ fn example_dispersive_readout() {
 fn example_holstein_dimer() {
     check_example("holstein_dimer", include_str!("../../examples/holstein_dimer.clv"));
 }
+
+/// Derives `text` to `order` and asserts an up-front refusal (exit status 1) naming `expected`.
+fn check_too_costly(text: &str, order: u32, expected: &str) {
+    let (model, _) = cleave::load(text).expect("the model lowers");
+    match derive(&model, &DeriveOptions::new(order)) {
+        Err(cleave::engine::EngineError::Infeasible(why)) => {
+            assert!(why.contains("this derivation is too large"), "{why}");
+            assert!(why.contains(expected), "expected {expected:?} in {why}");
+        }
+        other => panic!("expected a refusal, got {other:?}"),
+    }
+}
+
+/// Issue 12, items 2, 3 and 7: derivations that would run for hours or exhaust memory are
+/// refused before they start, by an estimate of their cost, with advice.
+#[test]
+fn issue_12_costly_derivations_are_refused_up_front() {
+    // A hundred parameters to order 4: C(104, 4) = 4598126 terms in a coefficient.
+    let names: Vec<String> = (0..100).map(|k| format!("p{k}")).collect();
+    let many = format!(
+        "param {}\nspace d = levels(G, E)\nH0 = |E><E|\nV = ({}) * (|G><E| + |E><G|)\n",
+        names.join(", "),
+        names.join(" + ")
+    );
+    check_too_costly(&many, 4, "can have 4598126 terms");
+    // Order 1000 of a four-state model with two parameters.
+    let axial = "param D > 0, b\nspace s = spin(3/2)\nH0 = D * s.z^2\nV = b * s.x\n";
+    check_too_costly(axial, 1000, "lower the order");
+    // Every level of a long numeric oscillator, to a high order.
+    check_too_costly(
+        "space q = oscillator(2000)\nH0 = q.n\nV = q.lower + q.raise\n",
+        40,
+        "2000 model space(s), the largest of 1 states, in 2000 states with no parameters to order \
+         40 would take far too long",
+    );
+    // Ten spins 1/2 in an Ising chain, focus on a level of 252 states: the dense secular
+    // algebra of the model space, not the sparse count, is what is too large.
+    let mut chain = String::from("param J\n");
+    for k in 1..=10 {
+        chain.push_str(&format!("space s{k} = spin(1/2)\n"));
+    }
+    let bonds = |op: &str| -> Vec<String> {
+        (1..10).map(|k| format!("s{k}.{op}*s{}.{op}", k + 1)).collect()
+    };
+    chain.push_str(&format!("H0 = J * ({})\n", bonds("z").join(" + ")));
+    chain.push_str(&format!(
+        "V = {} + {}\nfocus 1/4*J\n",
+        bonds("x").join(" + "),
+        bonds("y").join(" + ")
+    ));
+    check_too_costly(&chain, 2, "a model space of 252 states is too large");
+}

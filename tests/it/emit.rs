@@ -415,14 +415,15 @@ order 3
     );
 }
 
+/// Rust keywords as parameter names (`lambda` itself is refused since issue 12).
 #[test]
 fn rust_keyword_parameters() {
     check_rust(
         r#"
-param type, match, Delta, lambda
+param type, match, Delta, lam
 space s = spin(1/2)
 H0 = Delta * s.z
-V = type * s.x + match * s.z + lambda * type * s.y
+V = type * s.x + match * s.z + lam * type * s.y
 order 2
 "#,
         &[

@@ -150,3 +150,39 @@ fn deep_but_allowed_nesting_does_not_overflow() {
     check_no_panic(&format!("{PRELUDE}H0 = {nested} ^ 2^2^2^-1\nV = {chain}\n"));
     check_no_panic(&format!("{PRELUDE}H0 = {}1\nV = 1\n", "-".repeat(250)));
 }
+
+/// Issue 12, item 16: every finding of the fuzz campaign (`cargo run --profile fuzz --example
+/// fuzz`) is kept in `tests/fuzz_fixtures/` as `NAME.clv` with `NAME.txt`, whose first line is
+/// the command that failed; each must now answer with exit status 0, 1 or 2 and a located
+/// bad-input message; a run that `--max-seconds` stops cleanly (exit status 1 with advice)
+/// is such an answer.
+#[test]
+fn issue_12_fuzz_findings_stay_fixed() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fuzz_fixtures");
+    let mut fixtures: Vec<std::path::PathBuf> = std::fs::read_dir(&dir)
+        .expect("the fixtures folder")
+        .map(|e| e.expect("entry").path())
+        .filter(|p| p.extension().is_some_and(|e| e == "clv"))
+        .collect();
+    fixtures.sort();
+    assert!(!fixtures.is_empty());
+    for fixture in fixtures {
+        let record = std::fs::read_to_string(fixture.with_extension("txt")).expect("its record");
+        let command: Vec<&str> = record.lines().next().expect("a command").split(' ').collect();
+        assert_eq!(command[0], "cleave", "{record}");
+        let work = tempfile::tempdir().expect("a temp dir");
+        std::fs::copy(&fixture, work.path().join("model.clv")).expect("copy the model");
+        let output = std::process::Command::new(env!("CARGO_BIN_EXE_cleave"))
+            .args(&command[1..])
+            .args(["--max-seconds", "10"])
+            .current_dir(work.path())
+            .output()
+            .expect("run cleave");
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        let status = output.status.code();
+        assert!(matches!(status, Some(0..=2)), "{}: {status:?}\n{stderr}", fixture.display());
+        if status == Some(2) {
+            assert!(stderr.starts_with("model.clv:"), "{}: unlocated\n{stderr}", fixture.display());
+        }
+    }
+}

@@ -425,3 +425,47 @@ proptest! {
         prop_assert_eq!(again.as_constant(), Some(value), "printed as {:?}", text);
     }
 }
+
+/// The path-graph (tridiagonal) H0 on `n` named levels: `|a_k><a_k+1| + h.c.`.
+fn path_h0(n: usize, v: &str) -> String {
+    let labels: Vec<String> = (0..n).map(|k| format!("a{k}")).collect();
+    let hops: Vec<String> =
+        (0..n - 1).map(|k| format!("|a{k}><a{}| + |a{}><a{k}|", k + 1, k + 1)).collect();
+    format!("space d = levels({})\nH0 = {}\nV = {v}\n", labels.join(", "), hops.join(" + "))
+}
+
+/// Issue 12, item 5: a non-diagonal numeric H0 is split by factoring its characteristic
+/// polynomial in polynomial time. The path graph on n sites has the eigenvalues 2 cos(k pi /
+/// (n + 1)) (a standard result, e.g. Brouwer & Haemers, Spectra of Graphs, 2012, §1.4.4), which
+/// square roots of rationals write only for small n: n = 2, 3, 4, 5 split (1, sqrt 2, the golden
+/// ratio, sqrt 3 appear); for n = 6, 10, 16, 30 (n + 1 = 7, 11, 17, 31) they are roots of
+/// irreducible factors of degree 3, 5, 8, 15, which are refused with the characteristic
+/// polynomial (exit status 1).
+#[test]
+fn issue_12_non_diagonal_numeric_h0_is_split_or_refused_quickly() {
+    for n in [2, 3, 4, 5] {
+        let spectrum = unperturbed_levels(&load(&path_h0(n, "|a0><a0|"))).expect("splits");
+        assert_eq!(spectrum.levels.len(), n, "n = {n}");
+    }
+    for n in [6, 10, 16, 30] {
+        let err = unperturbed_levels(&load(&path_h0(n, "|a0><a0|"))).expect_err("refused");
+        assert!(err.to_string().contains("square roots of rationals cannot write"), "{err}");
+    }
+    // The quartic oscillator with its quartic term moved into H0: a numeric 30-state H0.
+    let quartic = "space q = oscillator(30)\nlet x = (q.lower + q.raise) / sqrt(2)\n\
+                   H0 = q.n + 1/2 + 3/40 * x^4\nV = x^2\n";
+    let err = unperturbed_levels(&load(quartic)).expect_err("no radical eigenvalues");
+    assert!(err.to_string().contains("characteristic polynomial"), "{err}");
+}
+
+/// Issue 12, item 6: `H0 = 0` with a symbolic V is one level holding every state, at once.
+#[test]
+fn issue_12_zero_h0_is_one_level() {
+    for n in [6, 12, 40] {
+        let model =
+            format!("param g\nspace q = oscillator({n})\nH0 = 0\nV = g*(q.lower + q.raise)\n");
+        let spectrum = unperturbed_levels(&load(&model)).expect("diagonal");
+        assert_eq!(spectrum.levels.len(), 1);
+        assert_eq!(spectrum.levels[0].degeneracy(), n);
+    }
+}
