@@ -4,6 +4,8 @@
 //! structure (`terms::fraction`); nothing is recomputed.
 
 use std::collections::BTreeSet;
+
+use crate::exact::Radicand;
 use std::fmt::Write;
 
 use num_bigint::BigInt;
@@ -50,7 +52,7 @@ pub(crate) fn rust(model: &Model, derivation: &Derivation, name: &str) -> String
         idents.push(Ident { code: code.clone(), bare: code });
     }
     let mut body = String::new();
-    let mut roots: BTreeSet<u64> = BTreeSet::new();
+    let mut roots: BTreeSet<Radicand> = BTreeSet::new();
     let mut dispatch: Vec<(String, Vec<usize>)> = Vec::new();
     for (space_idx, space) in derivation.model_spaces.iter().enumerate() {
         for (branch_idx, branch) in space.branches.iter().enumerate() {
@@ -104,7 +106,7 @@ pub(crate) fn rust(model: &Model, derivation: &Derivation, name: &str) -> String
         );
     }
     for root in &roots {
-        let value = (*root as f64).sqrt();
+        let value = root.to_f64().sqrt();
         let _ = writeln!(
             out,
             "/// `sqrt({root})`, the exact square root rounded once to the nearest `f64`.\n\
@@ -204,7 +206,7 @@ fn branch_function(
     (space_idx, space): (usize, &ModelSpace),
     (branch_idx, branch): (usize, &Branch),
     idents: &[Ident],
-    roots: &mut BTreeSet<u64>,
+    roots: &mut BTreeSet<Radicand>,
 ) -> Vec<usize> {
     let names = &text::Names::plain(derivation.symbol_names());
     let d = space.basis.len();
@@ -266,7 +268,7 @@ fn hamiltonian_function(
     space_idx: usize,
     space: &ModelSpace,
     idents: &[Ident],
-    roots: &mut BTreeSet<u64>,
+    roots: &mut BTreeSet<Radicand>,
 ) {
     let names = &text::Names::plain(derivation.symbol_names());
     let d = space.basis.len();
@@ -422,11 +424,15 @@ fn is_sqrt_const(name: &str) -> bool {
 }
 
 /// `(re, im)` code of a value; either is `0.0` when that part vanishes.
-fn value_code(value: &RatFunc, idents: &[Ident], roots: &mut BTreeSet<u64>) -> (String, String) {
+fn value_code(
+    value: &RatFunc,
+    idents: &[Ident],
+    roots: &mut BTreeSet<Radicand>,
+) -> (String, String) {
     let fraction = terms::fraction(value);
     for atom in fraction.numer.iter().chain(&fraction.denom) {
-        if atom.root != 1 {
-            roots.insert(atom.root);
+        if !atom.root.is_one() {
+            roots.insert(atom.root.clone());
         }
     }
     let part = |atoms: &[Atom], imaginary: bool| -> Vec<Atom> {
@@ -490,10 +496,10 @@ fn sum_code(atoms: &[Atom], idents: &[Ident]) -> String {
 /// `21.0 / 8.0 * SQRT_2 * g.powi(2) * t`: the rational first, so `/` binds as intended.
 fn atom_code(atom: &Atom, idents: &[Ident]) -> String {
     let mut parts: Vec<String> = Vec::new();
-    if !atom.magnitude.is_one() || (atom.root == 1 && atom.factors.is_empty()) {
+    if !atom.magnitude.is_one() || (atom.root.is_one() && atom.factors.is_empty()) {
         parts.push(rational_literal(&atom.magnitude));
     }
-    if atom.root != 1 {
+    if !atom.root.is_one() {
         parts.push(format!("SQRT_{}", atom.root));
     }
     for (param, exponent) in &atom.factors {

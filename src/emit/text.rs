@@ -12,7 +12,7 @@ use num_integer::Integer;
 use num_traits::{One, Zero};
 
 use crate::engine::Derivation;
-use crate::exact::{Field, Monomial, Poly, Radical, RatFunc, Rational, Symbols};
+use crate::exact::{Field, Monomial, Poly, Radical, Radicand, RatFunc, Rational, Symbols};
 use crate::linalg::SparseVec;
 use crate::model::Basis;
 use crate::spectrum::Spectrum;
@@ -81,12 +81,12 @@ fn primitive(p: &Poly) -> Option<Poly> {
 /// gcd of the rational parts (signed like the leading coefficient) times `sqrt(s)`.
 struct Content {
     rational: Rational,
-    radicand: i64,
+    radicand: Radicand,
 }
 
 impl Content {
     fn value(&self) -> Radical {
-        Radical::basis(self.radicand, self.rational.clone()).expect("square-free radicand")
+        Radical::basis_unchecked(self.radicand.clone(), self.rational.clone())
     }
 }
 
@@ -96,7 +96,7 @@ fn content(p: &Poly) -> Option<Content> {
     let mut denom = BigInt::one();
     for (_, c) in p.terms() {
         let [(s, q)] = c.terms() else { return None };
-        if *radicand.get_or_insert(*s) != *s {
+        if radicand.get_or_insert_with(|| s.clone()) != s {
             return None;
         }
         numer = numer.gcd(q.numer());
@@ -122,7 +122,7 @@ pub(crate) struct Factored {
     /// The positive rational constant.
     pub constant: Rational,
     /// The square-free radicand multiplying the numerator (1 for none).
-    pub radicand: i64,
+    pub radicand: Radicand,
     /// Numerator factors with their powers, each with a positive leading coefficient.
     pub numer: Vec<(Poly, u32)>,
     /// Denominator factors with their powers.
@@ -138,7 +138,7 @@ pub(crate) fn factor_value(value: &RatFunc, names: &Names) -> Option<Factored> {
     }
     let numer_content = content(value.numer())?;
     let denom_content = content(value.denom())?;
-    if denom_content.radicand != 1 {
+    if !denom_content.radicand.is_one() {
         return None;
     }
     let numer = split(value.numer(), &numer_content, &names.factors)?;
@@ -165,8 +165,8 @@ fn factored(value: &RatFunc, names: &Names) -> Option<String> {
     if !parts.constant.numer().is_one() {
         top.push(parts.constant.numer().to_string());
     }
-    if parts.radicand != 1 {
-        top.push(Radical::basis(parts.radicand, Rational::one()).expect("square-free").to_string());
+    if !parts.radicand.is_one() {
+        top.push(Radical::basis_unchecked(parts.radicand.clone(), Rational::one()).to_string());
     }
     if !parts.constant.denom().is_one() {
         bottom.push(parts.constant.denom().to_string());

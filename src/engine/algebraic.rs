@@ -37,8 +37,6 @@ pub(crate) struct Context {
     pub roots: Vec<RootAtom>,
     /// Number of model parameters: root `r` is written as `ParamId(n_params + r)`.
     pub n_params: u32,
-    /// Set when a radicand outgrew 64 bits outside a state that could be left out.
-    pub radicand_overflow: bool,
 }
 
 /// The energy series of the simple eigenvalue `scale * nu` of `series[0] = scale * numeric`

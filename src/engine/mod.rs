@@ -154,9 +154,6 @@ pub struct Branch {
 pub enum MissingState {
     /// The branch's group does not split by order N, so no single state belongs to it.
     GroupNotSplit,
-    /// Its coefficients need square roots of numbers beyond 64 bits (high Fock states of an
-    /// oscillator, say); the energies are unaffected.
-    RadicandTooLarge,
     /// A denominator of the state vanishes at this root of `P` (a zero divisor of the extension).
     Extension,
 }
@@ -293,19 +290,14 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
             "order {order} is beyond what cleave computes (at most {MAX_ORDER})"
         )));
     }
-    crate::exact::take_radicand_overflow();
     let spectrum =
         spectrum::unperturbed_levels(model).map_err(|e| EngineError::Infeasible(e.to_string()))?;
     let working = working_problem(model, &spectrum);
     let spaces = model_space_levels(model, &spectrum)?;
     let n = working.problem.energies.len() as u64;
     let mut model_spaces = Vec::new();
-    let mut ctx = Context {
-        secular: Vec::new(),
-        roots: Vec::new(),
-        n_params: model.params().len() as u32,
-        radicand_overflow: false,
-    };
+    let mut ctx =
+        Context { secular: Vec::new(), roots: Vec::new(), n_params: model.params().len() as u32 };
     for levels in spaces {
         let indices: Vec<usize> = (0..working.level_of.len())
             .filter(|&i| levels.contains(&working.level_of[i]))
@@ -329,14 +321,6 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
             order as usize,
             &mut ctx,
         ));
-    }
-    if ctx.radicand_overflow || crate::exact::take_radicand_overflow() {
-        return Err(EngineError::Infeasible(format!(
-            "to order {order} this model needs the square root of a product of more primes than \
-             64-bit radicands hold (the square roots of every prime up to about 50 at once); lower \
-             the order or the oscillator cutoffs, or focus on a single level, whose series cleave \
-             computes over the rationals"
-        )));
     }
     Ok(Derivation {
         order,
@@ -500,8 +484,6 @@ struct Solved {
     omega_support: Vec<BTreeSet<usize>>,
     branches: Vec<RawBranch<RatFunc>>,
     vectors: Vec<Option<Vec<SparseVec<RatFunc>>>>,
-    /// Per branch: its vector needed square roots beyond 64 bits when converted (and is `None`).
-    state_too_large: Vec<bool>,
     secular: Vec<RawSecular>,
 }
 
@@ -511,7 +493,6 @@ fn to_solved<F: Scalar>(
     raw: RawSpace<F>,
     rescaled: Option<(&fast::Rescaling, usize)>,
     states_to: usize,
-    ctx: &mut Context,
 ) -> Solved {
     let conv_vec = |v: &SparseVec<F>| -> SparseVec<RatFunc> {
         match rescaled {
@@ -522,24 +503,10 @@ fn to_solved<F: Scalar>(
         }
     };
     let omega_support = raw.omega_support;
-    // Converting back to the original basis can need square roots beyond 64 bits (the Fock states
-    // of a big oscillator); such a state is left out, and an overflow met earlier is kept.
-    ctx.radicand_overflow |= crate::exact::take_radicand_overflow();
-    let mut state_too_large = Vec::with_capacity(raw.vectors.len());
     let vectors = raw
         .vectors
         .iter()
-        .map(|v| {
-            let converted =
-                v.as_ref().map(|s| s.iter().take(states_to + 1).map(conv_vec).collect());
-            let too_large = crate::exact::take_radicand_overflow();
-            state_too_large.push(too_large);
-            if too_large {
-                None
-            } else {
-                converted
-            }
-        })
+        .map(|v| v.as_ref().map(|s| s.iter().take(states_to + 1).map(conv_vec).collect()))
         .collect();
     Solved {
         bloch_h: raw.bloch.bloch.iter().map(|m| m.map(F::to_ratfunc)).collect(),
@@ -558,7 +525,6 @@ fn to_solved<F: Scalar>(
             })
             .collect(),
         vectors,
-        state_too_large,
         secular: raw.secular,
     }
 }
@@ -576,7 +542,7 @@ fn solve_fields(
         if indices.len() == 1 {
             if let Some((rational, rescaling)) = working.rational() {
                 if let Ok(raw) = solve_one_state(rational, indices[0], order, states_to) {
-                    return to_solved(raw, Some((rescaling, indices[0])), states_to, ctx);
+                    return to_solved(raw, Some((rescaling, indices[0])), states_to);
                 }
             }
         }
@@ -588,12 +554,12 @@ fn solve_fields(
                 b.energy.iter().any(|e| e.params().iter().any(|p| p.0 >= n_params))
             };
             if !raw.branches.iter().any(mentions_root) {
-                return to_solved(raw, None, states_to, ctx);
+                return to_solved(raw, None, states_to);
             }
         }
     }
     let raw = solve_in(problem, indices, order, ctx).expect("rational functions hold every value");
-    to_solved(raw, None, states_to, ctx)
+    to_solved(raw, None, states_to)
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -661,26 +627,19 @@ fn solve_model_space(
         .branches
         .iter()
         .zip(&solved.vectors)
-        .zip(&solved.state_too_large)
-        .map(|((b, vec), &converted_too_large)| {
-            // A state whose square roots outgrow 64 bits is left out, not the whole derivation:
-            // an overflow met before this point is kept for `derive` to report.
-            ctx.radicand_overflow |= crate::exact::take_radicand_overflow();
+        .map(|(b, vec)| {
             let state = vec.as_ref().and_then(|series| {
                 let product: Vec<SparseVec<RatFunc>> = series.iter().map(to_product).collect();
                 let state =
                     intermediate_normalization(product, (order - b.isolated_at).min(states_to));
                 reduce_state_roots(state, &ctx.roots, ctx.n_params)
             });
-            let too_large = crate::exact::take_radicand_overflow() || converted_too_large;
-            let state = if too_large { None } else { state };
-            let state_missing = match (&state, too_large) {
-                (Some(_), _) => None,
-                _ if b.multiplicity > 1 || b.not_split.is_some() => {
+            let state_missing = match &state {
+                Some(_) => None,
+                None if b.multiplicity > 1 || b.not_split.is_some() => {
                     Some(MissingState::GroupNotSplit)
                 }
-                (None, true) => Some(MissingState::RadicandTooLarge),
-                (None, false) => Some(MissingState::Extension),
+                None => Some(MissingState::Extension),
             };
             Branch {
                 energy: b.energy.clone(),

@@ -17,7 +17,7 @@ use std::ops::{Add, AddAssign, Mul, MulAssign, Neg, Sub, SubAssign};
 
 pub use algebraic::{Algebraic, ALPHA};
 pub use poly::{Monomial, Poly};
-pub use radical::{split_square, take_radicand_overflow, Radical};
+pub use radical::{split_square, Radical, Radicand};
 pub use ratfunc::RatFunc;
 pub use rational::Rational;
 
