@@ -21,6 +21,8 @@ use crate::spectrum::Spectrum;
 pub(crate) struct Names {
     list: Vec<String>,
     factors: Vec<Poly>,
+    /// Per factor, the point of `f = 0` that screens divisions (see [`Screen`]).
+    points: Vec<Option<FactorPoint>>,
 }
 
 impl Deref for Names {
@@ -33,7 +35,7 @@ impl Deref for Names {
 impl Names {
     /// Names only; values print in the canonical expanded form.
     pub(crate) fn plain(list: Vec<String>) -> Names {
-        Names { list, factors: Vec::new() }
+        Names { list, factors: Vec::new(), points: Vec::new() }
     }
     /// The symbols of a derivation, factoring over its unperturbed energy differences.
     pub(crate) fn for_derivation(derivation: &Derivation) -> Names {
@@ -66,7 +68,8 @@ impl Names {
                 }
             }
         }
-        Names { list, factors }
+        let points = factors.iter().map(FactorPoint::of).collect();
+        Names { list, factors, points }
     }
 }
 
@@ -141,8 +144,8 @@ pub(crate) fn factor_value(value: &RatFunc, names: &Names) -> Option<Factored> {
     if !denom_content.radicand.is_one() {
         return None;
     }
-    let numer = split(value.numer(), &numer_content, &names.factors)?;
-    let denom = split(value.denom(), &denom_content, &names.factors)?;
+    let numer = split(value.numer(), &numer_content, &names.factors, &names.points)?;
+    let denom = split(value.denom(), &denom_content, &names.factors, &names.points)?;
     if numer.powers.is_empty() && denom.powers.is_empty() {
         return None;
     }
@@ -245,19 +248,26 @@ fn is_group(text: &str) -> bool {
     depth == 0
 }
 
-fn split(poly: &Poly, content: &Content, factors: &[Poly]) -> Option<Split> {
+fn split(
+    poly: &Poly,
+    content: &Content,
+    factors: &[Poly],
+    points: &[Option<FactorPoint>],
+) -> Option<Split> {
     let mut rest = poly.scale(&content.value().inv()?);
     let monomial = rest.monomial_content();
     if !monomial.is_one() {
         rest = rest.div_exact(&Poly::term(monomial.clone(), Radical::one()))?;
     }
     let mut powers = Vec::new();
-    for f in factors {
+    let mut screen = Screen::new(&rest);
+    for (f, point) in factors.iter().zip(points) {
         let mut e = 0;
-        while rest.degree() >= f.degree() {
+        while rest.degree() >= f.degree() && screen.may_vanish(point.as_ref()) {
             match rest.div_exact(f) {
                 Some(q) => {
                     rest = q;
+                    screen = Screen::new(&rest);
                     e += 1;
                 }
                 None => break,
@@ -326,11 +336,11 @@ fn signed_sum<'a>(terms: impl Iterator<Item = (&'a RatFunc, String)>, names: &Na
             continue;
         }
         let text = scalar(c, names);
-        let negated = scalar(&-c.clone(), names);
-        let (negative, magnitude) = if text.starts_with('-') && !is_sum(&negated) {
-            (true, negated)
-        } else {
-            (false, text)
+        // Only a value printed with a leading minus can be written as `- magnitude`.
+        let negated = if text.starts_with('-') { Some(scalar(&-c.clone(), names)) } else { None };
+        let (negative, magnitude) = match negated {
+            Some(negated) if !is_sum(&negated) => (true, negated),
+            _ => (false, text),
         };
         res.push_str(match (res.is_empty(), negative) {
             (true, true) => "-",
@@ -349,4 +359,146 @@ fn signed_sum<'a>(terms: impl Iterator<Item = (&'a RatFunc, String)>, names: &Na
         res.push('0');
     }
     res
+}
+
+/// The prime modulus of the division screen (`2^61 - 1`).
+const MODULUS: u64 = (1 << 61) - 1;
+
+fn mul_mod(a: u64, b: u64) -> u64 {
+    u64::try_from(u128::from(a) * u128::from(b) % u128::from(MODULUS)).expect("below the modulus")
+}
+
+fn pow_mod(mut base: u64, mut exponent: u64) -> u64 {
+    let mut res = 1;
+    while exponent > 0 {
+        if exponent & 1 == 1 {
+            res = mul_mod(res, base);
+        }
+        base = mul_mod(base, base);
+        exponent >>= 1;
+    }
+    res
+}
+
+/// A rational modulo the prime; `None` when its denominator is divisible by it.
+fn residue(q: &Rational) -> Option<u64> {
+    let modulus = BigInt::from(MODULUS);
+    let to_u64 = |n: &BigInt| -> u64 {
+        let r = n.mod_floor(&modulus);
+        u64::try_from(r).expect("a residue fits u64")
+    };
+    let denom = to_u64(q.denom());
+    if denom == 0 {
+        return None;
+    }
+    Some(mul_mod(to_u64(q.numer()), pow_mod(denom, MODULUS - 2)))
+}
+
+/// The fixed value of parameter `p` at the screening point (distinct, far from small integers).
+fn coordinate(p: u32) -> u64 {
+    (u64::from(p) + 1).wrapping_mul(0x9E37_79B9_7F4A_7C15) % MODULUS
+}
+
+/// Where a linear factor with rational coefficients vanishes: its leading parameter `x` takes
+/// `value` while every other parameter keeps its [`coordinate`].
+pub(crate) struct FactorPoint {
+    x: crate::exact::ParamId,
+    value: u64,
+}
+
+impl FactorPoint {
+    fn of(f: &Poly) -> Option<FactorPoint> {
+        if f.degree() != 1 {
+            return None;
+        }
+        let (lead, a) = f.leading_term()?;
+        let x = lead.factors().first()?.0;
+        let a = residue(&a.as_rational()?)?;
+        if a == 0 {
+            return None;
+        }
+        // a x + r = 0 with r the other terms at the point.
+        let mut r = 0;
+        for (m, c) in &f.terms()[1..] {
+            let c = residue(&c.as_rational()?)?;
+            let v = m
+                .factors()
+                .iter()
+                .fold(c, |acc, (p, e)| mul_mod(acc, pow_mod(coordinate(p.0), u64::from(*e))));
+            r = (r + v) % MODULUS;
+        }
+        let value = mul_mod(MODULUS - r, pow_mod(a, MODULUS - 2)) % MODULUS;
+        Some(FactorPoint { x, value })
+    }
+}
+
+/// A polynomial's coefficients modulo the prime, split by square root, for a quick proof that a
+/// linear factor does not divide it.
+///
+/// With `p = sum_s sqrt(s) p_s` (rational `p_s`) and a monic `f` with rational coefficients,
+/// `f | p` exactly when `f | p_s` for every `s`, and then every `p_s` vanishes modulo the prime
+/// wherever `f` does (Gauss's lemma keeps the quotient integral at the prime when `p_s` is). A
+/// non-zero value there therefore proves that `f` does not divide; a zero lets the exact division
+/// decide.
+/// Per square root, the residues of a polynomial's coefficients of `x^0, x^1, ...`.
+type Univariate = Vec<(Radicand, Vec<u64>)>;
+
+struct Screen<'a> {
+    poly: &'a Poly,
+    /// Per term, per square root: `(s, residue)`; `None` when some denominator is divisible by
+    /// the prime (then nothing is screened).
+    residues: Option<Vec<Vec<(Radicand, u64)>>>,
+    /// Per leading parameter `x`: per square root, the residues of the coefficients of `x^k` with
+    /// every other parameter at its coordinate, found when first needed.
+    in_x: std::cell::RefCell<std::collections::BTreeMap<u32, Univariate>>,
+}
+
+impl<'a> Screen<'a> {
+    fn new(poly: &'a Poly) -> Screen<'a> {
+        let residues = poly
+            .terms()
+            .iter()
+            .map(|(_, c)| c.terms().iter().map(|(s, q)| Some((s.clone(), residue(q)?))).collect())
+            .collect();
+        Screen { poly, residues, in_x: Default::default() }
+    }
+
+    /// Whether the polynomial may vanish where `point` lies (`true` when it cannot be screened).
+    fn may_vanish(&self, point: Option<&FactorPoint>) -> bool {
+        let (Some(point), Some(residues)) = (point, &self.residues) else { return true };
+        let mut cache = self.in_x.borrow_mut();
+        let univariate = cache.entry(point.x.0).or_insert_with(|| {
+            let mut res: Univariate = Vec::new();
+            for ((m, _), parts) in self.poly.terms().iter().zip(residues) {
+                let mut degree = 0;
+                let at = m.factors().iter().fold(1, |acc, (p, e)| {
+                    if *p == point.x {
+                        degree = *e as usize;
+                        acc
+                    } else {
+                        mul_mod(acc, pow_mod(coordinate(p.0), u64::from(*e)))
+                    }
+                });
+                for (s, r) in parts {
+                    let v = mul_mod(*r, at);
+                    let slot = match res.iter().position(|(t, _)| t == s) {
+                        Some(k) => k,
+                        None => {
+                            res.push((s.clone(), Vec::new()));
+                            res.len() - 1
+                        }
+                    };
+                    let coeffs = &mut res[slot].1;
+                    if coeffs.len() <= degree {
+                        coeffs.resize(degree + 1, 0);
+                    }
+                    coeffs[degree] = (coeffs[degree] + v) % MODULUS;
+                }
+            }
+            res
+        });
+        univariate.iter().all(|(_, coeffs)| {
+            coeffs.iter().rev().fold(0, |acc, c| (mul_mod(acc, point.value) + c) % MODULUS) == 0
+        })
+    }
 }

@@ -36,6 +36,23 @@ pub(crate) struct Bloch<F> {
     pub s_inv_half: Vec<DenseMatrix<F>>,
 }
 
+impl<F: Field> Bloch<F> {
+    /// The same operators with every value mapped into another field.
+    pub fn map<G: Field>(&self, f: impl Fn(&F) -> G + Copy) -> Bloch<G> {
+        Bloch {
+            model: self.model.clone(),
+            omega: self
+                .omega
+                .iter()
+                .map(|cols| cols.iter().map(|c| c.map(|_, v| f(v))).collect())
+                .collect(),
+            bloch: self.bloch.iter().map(|m| m.map(f)).collect(),
+            hermitian: self.hermitian.iter().map(|m| m.map(f)).collect(),
+            s_inv_half: self.s_inv_half.iter().map(|m| m.map(f)).collect(),
+        }
+    }
+}
+
 /// Computes Bloch's wave operator for the model space `model` (a union of whole levels of `A_0`)
 /// to order `order`, then `H_B` and the Hermitian `H_eff`.
 ///

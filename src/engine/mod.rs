@@ -23,10 +23,10 @@ mod fast;
 mod notes;
 mod split;
 
-use std::cell::OnceCell;
 use std::collections::BTreeSet;
+use std::sync::OnceLock;
 
-use crate::exact::{Field, Radical, RatFunc, Rational, SquareRoot};
+use crate::exact::{Field, Fraction, Radical, RatFunc, Rational, SquareRoot};
 use crate::linalg::{DenseMatrix, SparseMatrix, SparseVec};
 use crate::model::Model;
 use crate::spectrum::{self, Spectrum};
@@ -244,6 +244,12 @@ impl Scalar for Radical {
     }
 }
 
+impl Scalar for Fraction {
+    fn from_ratfunc(value: &RatFunc) -> Option<Fraction> {
+        Some(Fraction::from_ratfunc(value))
+    }
+}
+
 impl Scalar for RatFunc {
     fn from_ratfunc(value: &RatFunc) -> Option<RatFunc> {
         Some(value.clone())
@@ -259,8 +265,10 @@ struct Working {
     level_of: Vec<usize>,
     /// The problem in the radical field when it is numeric, and its rational rescaling: the same
     /// for every model space, so each is found once, when first needed.
-    radical: OnceCell<Option<Problem<Radical>>>,
-    rational: OnceCell<Option<(Problem<Rational>, fast::Rescaling)>>,
+    radical: OnceLock<Option<Problem<Radical>>>,
+    rational: OnceLock<Option<(Problem<Rational>, fast::Rescaling)>>,
+    /// The problem with denominators kept as products of known factors, for symbolic models.
+    fraction: OnceLock<Problem<Fraction>>,
 }
 
 impl Working {
@@ -269,13 +277,25 @@ impl Working {
         columns: Vec<SparseVec<RatFunc>>,
         level_of: Vec<usize>,
     ) -> Working {
-        Working { problem, columns, level_of, radical: OnceCell::new(), rational: OnceCell::new() }
+        Working {
+            problem,
+            columns,
+            level_of,
+            radical: OnceLock::new(),
+            rational: OnceLock::new(),
+            fraction: OnceLock::new(),
+        }
     }
     fn radical(&self) -> Option<&Problem<Radical>> {
         self.radical.get_or_init(|| try_convert::<Radical>(&self.problem)).as_ref()
     }
     fn rational(&self) -> Option<&(Problem<Rational>, fast::Rescaling)> {
         self.rational.get_or_init(|| self.radical().and_then(fast::rationalize)).as_ref()
+    }
+    fn fraction(&self) -> &Problem<Fraction> {
+        self.fraction.get_or_init(|| {
+            try_convert::<Fraction>(&self.problem).expect("every rational function converts")
+        })
     }
 }
 
@@ -426,6 +446,38 @@ fn solve_in<F: Scalar>(
     ctx: &mut Context,
 ) -> Result<RawSpace<F>, FieldTooSmall> {
     let bloch = bloch::wave_operator(problem, indices, order);
+    reduce(problem, bloch, indices, ctx, |bloch, c| lift(bloch, c))
+}
+
+/// A symbolic model space: the wave operator and both effective Hamiltonians run on fractions
+/// over the known energy differences (sums without gcds), then the values are cancelled by those
+/// factors into lowest-terms rational functions for Kato's reduction and the results.
+fn solve_symbolic(
+    working: &Working,
+    indices: &[usize],
+    order: usize,
+    ctx: &mut Context,
+) -> Result<RawSpace<RatFunc>, FieldTooSmall> {
+    let fractions = bloch::wave_operator(working.fraction(), indices, order);
+    let bloch = fractions.map(Fraction::to_ratfunc);
+    // States are lifted with the fractions too: the sums over the wave operator's columns are
+    // where a gcd per addition would cost most.
+    let lift_fractions = |_: &bloch::Bloch<RatFunc>, c: &[SparseVec<RatFunc>]| {
+        let c: Vec<SparseVec<Fraction>> =
+            c.iter().map(|v| v.map(|_, x| Fraction::from_ratfunc(x))).collect();
+        lift(&fractions, &c).iter().map(|v| v.map(|_, x| x.to_ratfunc())).collect()
+    };
+    reduce(&working.problem, bloch, indices, ctx, lift_fractions)
+}
+
+/// Kato's reduction of a model space whose wave operator is known, and the branch states.
+fn reduce<F: Scalar>(
+    problem: &Problem<F>,
+    bloch: bloch::Bloch<F>,
+    indices: &[usize],
+    ctx: &mut Context,
+    lift: impl Fn(&bloch::Bloch<F>, &[SparseVec<F>]) -> Vec<SparseVec<F>>,
+) -> Result<RawSpace<F>, FieldTooSmall> {
     let stage = Stage {
         series: bloch.hermitian.clone(),
         metric: indices.iter().map(|&i| problem.metric[i].clone()).collect(),
@@ -537,7 +589,6 @@ fn solve_fields(
     states_to: usize,
     ctx: &mut Context,
 ) -> Solved {
-    let problem = &working.problem;
     if let Some(radical) = working.radical() {
         if indices.len() == 1 {
             if let Some((rational, rescaling)) = working.rational() {
@@ -558,7 +609,8 @@ fn solve_fields(
             }
         }
     }
-    let raw = solve_in(problem, indices, order, ctx).expect("rational functions hold every value");
+    let raw =
+        solve_symbolic(working, indices, order, ctx).expect("rational functions hold every value");
     to_solved(raw, None, states_to)
 }
 

@@ -5,6 +5,7 @@
 #![deny(clippy::float_arithmetic)]
 
 mod algebraic;
+mod fraction;
 mod poly;
 mod radical;
 mod ratfunc;
@@ -16,6 +17,7 @@ use std::fmt::Debug;
 use std::ops::{Add, AddAssign, Mul, MulAssign, Neg, Sub, SubAssign};
 
 pub use algebraic::{Algebraic, ALPHA};
+pub use fraction::Fraction;
 pub use poly::{Monomial, Poly};
 pub use radical::{split_square, Radical, Radicand};
 pub use ratfunc::RatFunc;
