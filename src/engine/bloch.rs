@@ -37,15 +37,12 @@ pub(crate) struct Bloch<F> {
 }
 
 impl<F: Field> Bloch<F> {
-    /// The same operators with every value mapped into another field.
-    pub fn map<G: Field>(&self, f: impl Fn(&F) -> G + Copy) -> Bloch<G> {
+    /// The effective Hamiltonians and `S^(-1/2)` mapped into another field; `omega` is left empty
+    /// (the caller keeps the original to lift states with).
+    pub fn map_matrices<G: Field>(&self, f: impl Fn(&F) -> G + Copy) -> Bloch<G> {
         Bloch {
             model: self.model.clone(),
-            omega: self
-                .omega
-                .iter()
-                .map(|cols| cols.iter().map(|c| c.map(|_, v| f(v))).collect())
-                .collect(),
+            omega: Vec::new(),
             bloch: self.bloch.iter().map(|m| m.map(f)).collect(),
             hermitian: self.hermitian.iter().map(|m| m.map(f)).collect(),
             s_inv_half: self.s_inv_half.iter().map(|m| m.map(f)).collect(),

@@ -446,7 +446,14 @@ fn solve_in<F: Scalar>(
     ctx: &mut Context,
 ) -> Result<RawSpace<F>, FieldTooSmall> {
     let bloch = bloch::wave_operator(problem, indices, order);
-    reduce(problem, bloch, indices, ctx, |bloch, c| lift(bloch, c))
+    let support = omega_support(&bloch);
+    reduce(problem, bloch, support, indices, ctx, |bloch, c| lift(bloch, c))
+}
+
+/// The indices each `Omega_m` reaches, `m = 0..=N`.
+fn omega_support<F: Field>(bloch: &bloch::Bloch<F>) -> Vec<BTreeSet<usize>> {
+    let columns = bloch.omega.iter();
+    columns.map(|cols| cols.iter().flat_map(|c| c.entries().iter().map(|(i, _)| *i)).collect()).collect()
 }
 
 /// A symbolic model space: the wave operator and both effective Hamiltonians run on fractions
@@ -459,7 +466,9 @@ fn solve_symbolic(
     ctx: &mut Context,
 ) -> Result<RawSpace<RatFunc>, FieldTooSmall> {
     let fractions = bloch::wave_operator(working.fraction(), indices, order);
-    let bloch = fractions.map(Fraction::to_ratfunc);
+    let support = omega_support(&fractions);
+    // The wave operator itself stays in fractions: only the states need it, lifted below.
+    let bloch = fractions.map_matrices(Fraction::to_ratfunc);
     // States are lifted with the fractions too: the sums over the wave operator's columns are
     // where a gcd per addition would cost most.
     let lift_fractions = |_: &bloch::Bloch<RatFunc>, c: &[SparseVec<RatFunc>]| {
@@ -467,13 +476,14 @@ fn solve_symbolic(
             c.iter().map(|v| v.map(|_, x| Fraction::from_ratfunc(x))).collect();
         lift(&fractions, &c).iter().map(|v| v.map(|_, x| x.to_ratfunc())).collect()
     };
-    reduce(&working.problem, bloch, indices, ctx, lift_fractions)
+    reduce(&working.problem, bloch, support, indices, ctx, lift_fractions)
 }
 
 /// Kato's reduction of a model space whose wave operator is known, and the branch states.
 fn reduce<F: Scalar>(
     problem: &Problem<F>,
     bloch: bloch::Bloch<F>,
+    omega_support: Vec<BTreeSet<usize>>,
     indices: &[usize],
     ctx: &mut Context,
     lift: impl Fn(&bloch::Bloch<F>, &[SparseVec<F>]) -> Vec<SparseVec<F>>,
@@ -485,11 +495,6 @@ fn reduce<F: Scalar>(
     ctx.secular.clear();
     let raw = branches(stage, 0, ctx)?;
     let vectors = raw.iter().map(|b| b.vector.as_ref().map(|c| lift(&bloch, c))).collect();
-    let omega_support = bloch
-        .omega
-        .iter()
-        .map(|cols| cols.iter().flat_map(|c| c.entries().iter().map(|(i, _)| *i)).collect())
-        .collect();
     Ok(RawSpace {
         bloch,
         branches: raw,
