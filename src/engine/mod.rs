@@ -453,7 +453,9 @@ fn solve_in<F: Scalar>(
 /// The indices each `Omega_m` reaches, `m = 0..=N`.
 fn omega_support<F: Field>(bloch: &bloch::Bloch<F>) -> Vec<BTreeSet<usize>> {
     let columns = bloch.omega.iter();
-    columns.map(|cols| cols.iter().flat_map(|c| c.entries().iter().map(|(i, _)| *i)).collect()).collect()
+    columns
+        .map(|cols| cols.iter().flat_map(|c| c.entries().iter().map(|(i, _)| *i)).collect())
+        .collect()
 }
 
 /// A symbolic model space: the wave operator and both effective Hamiltonians run on fractions

@@ -376,6 +376,35 @@ impl Field for Fraction {
     fn mul_ref(&self, other: &Fraction) -> Fraction {
         self.mul_ref_impl(other)
     }
+    /// Brings every value to the common denominator once (the largest power of each factor)
+    /// and adds the numerators in one pass.
+    fn sum_of(values: Vec<Fraction>) -> Fraction {
+        let values: Vec<Fraction> = values.into_iter().filter(|v| !v.numer.is_zero()).collect();
+        let mut common: BTreeMap<u32, u32> = BTreeMap::new();
+        for v in &values {
+            for &(id, e) in &v.denom {
+                let slot = common.entry(id).or_insert(0);
+                *slot = (*slot).max(e);
+            }
+        }
+        let mut terms = Vec::new();
+        for v in values {
+            let cofactor: Vec<(u32, u32)> = common
+                .iter()
+                .filter_map(|(&id, &e)| {
+                    let own = v.denom.iter().find(|(j, _)| *j == id).map_or(0, |(_, f)| *f);
+                    (own < e).then_some((id, e - own))
+                })
+                .collect();
+            let numer = if cofactor.is_empty() { v.numer } else { &v.numer * &expand(&cofactor) };
+            terms.extend(numer.terms().iter().cloned());
+        }
+        let numer = Poly::from_terms(terms);
+        if numer.is_zero() {
+            return Fraction::zero();
+        }
+        Fraction { numer, denom: common.into_iter().collect() }
+    }
     fn to_ratfunc(&self) -> RatFunc {
         self.to_ratfunc_value()
     }

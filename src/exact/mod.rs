@@ -84,6 +84,11 @@ pub trait Field:
     fn checked_div(&self, other: &Self) -> Option<Self> {
         other.inv().map(|inv| self.mul_ref(&inv))
     }
+    /// The sum of `values`. A field whose additions cost more when done one by one (fractions
+    /// brought to a common denominator each time) overrides it to do that work once.
+    fn sum_of(values: Vec<Self>) -> Self {
+        values.into_iter().fold(Self::zero(), |acc, v| acc + &v)
+    }
     /// Embeds the value into the most general scalar type, the one every output reads.
     fn to_ratfunc(&self) -> RatFunc;
 }
