@@ -299,6 +299,44 @@ impl Working {
     }
 }
 
+/// Solves every job on the available cores, each with a fresh context, in job order; `None` when
+/// a single core is available or some model space met an algebraic root (see `derive`).
+fn solve_in_parallel<J: Sync>(
+    jobs: &[J],
+    n_params: u32,
+    solve: &(impl Fn(&J, &mut Context) -> ModelSpace + Sync),
+) -> Option<Vec<ModelSpace>> {
+    let threads = std::thread::available_parallelism().map_or(1, |n| n.get()).min(jobs.len());
+    if threads <= 1 {
+        return None;
+    }
+    let next = std::sync::atomic::AtomicUsize::new(0);
+    let done: std::sync::Mutex<Vec<Option<ModelSpace>>> =
+        std::sync::Mutex::new((0..jobs.len()).map(|_| None).collect());
+    let roots_met = std::sync::atomic::AtomicBool::new(false);
+    std::thread::scope(|scope| {
+        for _ in 0..threads {
+            scope.spawn(|| loop {
+                let k = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                if k >= jobs.len() || roots_met.load(std::sync::atomic::Ordering::Relaxed) {
+                    break;
+                }
+                let mut ctx = Context { secular: Vec::new(), roots: Vec::new(), n_params };
+                let space = solve(&jobs[k], &mut ctx);
+                if !ctx.roots.is_empty() {
+                    roots_met.store(true, std::sync::atomic::Ordering::Relaxed);
+                    break;
+                }
+                done.lock().expect("no thread panics while holding it")[k] = Some(space);
+            });
+        }
+    });
+    if roots_met.into_inner() {
+        return None;
+    }
+    done.into_inner().expect("no thread panicked").into_iter().collect()
+}
+
 /// Derives the perturbation series of `model` to `options.order`.
 pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, EngineError> {
     let order = options.order;
@@ -315,9 +353,7 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
     let working = working_problem(model, &spectrum);
     let spaces = model_space_levels(model, &spectrum)?;
     let n = working.problem.energies.len() as u64;
-    let mut model_spaces = Vec::new();
-    let mut ctx =
-        Context { secular: Vec::new(), roots: Vec::new(), n_params: model.params().len() as u32 };
+    let mut jobs = Vec::with_capacity(spaces.len());
     for levels in spaces {
         let indices: Vec<usize> = (0..working.level_of.len())
             .filter(|&i| levels.contains(&working.level_of[i]))
@@ -331,17 +367,26 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
                 indices.len()
             )));
         }
-        model_spaces.push(solve_model_space(
-            options.states_to() as usize,
-            model,
-            &spectrum,
-            &working,
-            &levels,
-            &indices,
-            order as usize,
-            &mut ctx,
-        ));
+        jobs.push((levels, indices));
     }
+    let n_params = model.params().len() as u32;
+    let solve = |(levels, indices): &(Vec<usize>, Vec<usize>), ctx: &mut Context| {
+        let states_to = options.states_to() as usize;
+        let order = order as usize;
+        solve_model_space(states_to, model, &spectrum, &working, levels, indices, order, ctx)
+    };
+    // Model spaces are independent, so they run on all cores; results keep the model-space
+    // order. Only algebraic roots tie them together (a root found in one space is numbered for
+    // all that follow), so when any space meets one, the spaces run again in order.
+    let parallel = solve_in_parallel(&jobs, n_params, &solve);
+    let (model_spaces, ctx) = match parallel {
+        Some(spaces) => (spaces, Context { secular: Vec::new(), roots: Vec::new(), n_params }),
+        None => {
+            let mut ctx = Context { secular: Vec::new(), roots: Vec::new(), n_params };
+            let spaces = jobs.iter().map(|job| solve(job, &mut ctx)).collect();
+            (spaces, ctx)
+        }
+    };
     Ok(Derivation {
         order,
         parameters: model.param_names(),
