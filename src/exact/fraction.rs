@@ -9,6 +9,7 @@
 use std::collections::BTreeMap;
 use std::sync::{Arc, LazyLock, RwLock};
 
+use super::screen::{FactorPoint, Screen};
 use super::{forward_ops, Field, Poly, Radical, RatFunc, Rational};
 
 /// A registered factor: a monic, non-constant polynomial, and whether it is known irreducible
@@ -16,6 +17,8 @@ use super::{forward_ops, Field, Poly, Radical, RatFunc, Rational};
 struct Factor {
     poly: Arc<Poly>,
     linear: bool,
+    /// Where the factor vanishes, to screen divisions by it.
+    point: Option<Arc<FactorPoint>>,
 }
 
 /// Every factor met so far, for the whole process: factors are immutable once registered, so
@@ -40,7 +43,8 @@ fn register_monic(monic: Poly) -> u32 {
     }
     let id = u32::try_from(registry.factors.len()).expect("fewer than 2^32 factors");
     let linear = monic.degree() == 1;
-    registry.factors.push(Factor { poly: Arc::new(monic.clone()), linear });
+    let point = FactorPoint::of(&monic).map(Arc::new);
+    registry.factors.push(Factor { poly: Arc::new(monic.clone()), linear, point });
     registry.index.insert(monic, id);
     id
 }
@@ -48,6 +52,11 @@ fn register_monic(monic: Poly) -> u32 {
 /// The polynomial of factor `id`.
 fn factor_poly(id: u32) -> Arc<Poly> {
     Arc::clone(&REGISTRY.read().expect("registry lock").factors[id as usize].poly)
+}
+
+/// The screening point of factor `id`.
+fn factor_point(id: u32) -> Option<Arc<FactorPoint>> {
+    REGISTRY.read().expect("registry lock").factors[id as usize].point.clone()
 }
 
 /// Whether factor `id` is known irreducible.
@@ -219,8 +228,12 @@ impl Fraction {
         let mut denom = Vec::with_capacity(self.denom.len());
         for &(id, e) in &self.denom {
             let f = factor_poly(id);
+            let point = factor_point(id);
             let mut left = e;
-            while left > 0 && numer.degree() >= f.degree() {
+            while left > 0
+                && numer.degree() >= f.degree()
+                && Screen::new(&numer).may_vanish(point.as_deref())
+            {
                 match numer.div_exact(&f) {
                     Some(q) => {
                         numer = q;

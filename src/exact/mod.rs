@@ -11,6 +11,7 @@ mod radical;
 mod ratfunc;
 mod rational;
 pub mod roots;
+pub(crate) mod screen;
 pub mod univariate;
 
 use std::fmt::Debug;
