@@ -419,18 +419,30 @@ fn working_problem(model: &Model, spectrum: &Spectrum) -> Working {
     let metric: Vec<RatFunc> = columns.iter().map(|u| u.conj().dot(u)).collect();
     let inv_metric: Vec<RatFunc> = metric.iter().map(|g| g.inv().expect("non-zero norm")).collect();
     let conj_columns: Vec<SparseVec<RatFunc>> = columns.iter().map(SparseVec::conj).collect();
+    // Which columns hold each product-basis state: `<u_i, V u_j>` is formed only for the columns
+    // that share a state with `V u_j`, not for all n^2 pairs.
+    let n_product = model.basis().dimension();
+    let mut holders: Vec<Vec<(usize, &RatFunc)>> = vec![Vec::new(); n_product];
+    for (i, ui) in conj_columns.iter().enumerate() {
+        for (p, x) in ui.entries() {
+            holders[*p].push((i, x));
+        }
+    }
     let terms = model
         .perturbations()
         .iter()
         .map(|v| {
-            let images: Vec<SparseVec<RatFunc>> = columns.iter().map(|u| v.mul_vec(u)).collect();
             let mut triplets = Vec::new();
-            for (i, ui) in conj_columns.iter().enumerate() {
-                for (j, vu) in images.iter().enumerate() {
-                    let x = ui.dot(vu);
-                    if !x.is_zero() {
-                        triplets.push((i, j, x * &inv_metric[i]));
+            for (j, u) in columns.iter().enumerate() {
+                let image = v.mul_vec(u);
+                let mut products: Vec<(usize, RatFunc)> = Vec::new();
+                for (p, y) in image.entries() {
+                    for (i, x) in &holders[*p] {
+                        products.push((*i, x.mul_ref(y)));
                     }
+                }
+                for (i, x) in SparseVec::from_pairs(products).entries() {
+                    triplets.push((*i, j, x.clone() * &inv_metric[*i]));
                 }
             }
             SparseMatrix::from_triplets(columns.len(), columns.len(), triplets)
