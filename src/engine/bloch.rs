@@ -62,6 +62,16 @@ pub(crate) fn wave_operator<F: Field>(
     model: &[usize],
     order: usize,
 ) -> Bloch<F> {
+    wave_operator_with(problem, model, order, &|_| {})
+}
+
+/// [`wave_operator`], telling `on_order` each order `m` as it starts.
+pub(crate) fn wave_operator_with<F: Field>(
+    problem: &Problem<F>,
+    model: &[usize],
+    order: usize,
+    on_order: &dyn Fn(usize),
+) -> Bloch<F> {
     let n = problem.energies.len();
     let d = model.len();
     let mut position = vec![usize::MAX; n];
@@ -92,6 +102,7 @@ pub(crate) fn wave_operator<F: Field>(
     )];
 
     for m in 1..=order {
+        on_order(m);
         for (k, term) in problem.terms.iter().enumerate().take(m) {
             // A_{k+1} Omega_{m-k-1}: only the newest column set is new at this order.
             let m_prev = m - k - 1;

@@ -303,7 +303,7 @@ impl Working {
 /// a single core is available or some model space met an algebraic root (see `derive`).
 fn solve_in_parallel<J: Sync>(
     jobs: &[J],
-    n_params: u32,
+    new_ctx: &(impl Fn(usize) -> Context + Sync),
     solve: &(impl Fn(&J, &mut Context) -> ModelSpace + Sync),
 ) -> Option<Vec<ModelSpace>> {
     let threads = std::thread::available_parallelism().map_or(1, |n| n.get()).min(jobs.len());
@@ -321,7 +321,7 @@ fn solve_in_parallel<J: Sync>(
                 if k >= jobs.len() || roots_met.load(std::sync::atomic::Ordering::Relaxed) {
                     break;
                 }
-                let mut ctx = Context { secular: Vec::new(), roots: Vec::new(), n_params };
+                let mut ctx = new_ctx(k);
                 let space = solve(&jobs[k], &mut ctx);
                 if !ctx.roots.is_empty() {
                     roots_met.store(true, std::sync::atomic::Ordering::Relaxed);
@@ -337,8 +337,29 @@ fn solve_in_parallel<J: Sync>(
     done.into_inner().expect("no thread panicked").into_iter().collect()
 }
 
+/// Where a derivation is: model space `space` of `spaces` (from 1) is at order `order`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Progress {
+    /// The model space, counted from 1 in output order.
+    pub space: usize,
+    /// How many model spaces the derivation has.
+    pub spaces: usize,
+    /// The order its wave operator is computing.
+    pub order: usize,
+}
+
 /// Derives the perturbation series of `model` to `options.order`.
 pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, EngineError> {
+    derive_with_progress(model, options, std::sync::Arc::new(|_| {}))
+}
+
+/// [`derive()`], telling `report` where it is as it goes (from several threads at once when model
+/// spaces run in parallel); the result is the same.
+pub fn derive_with_progress(
+    model: &Model,
+    options: &DeriveOptions,
+    report: std::sync::Arc<dyn Fn(Progress) + Send + Sync>,
+) -> Result<Derivation, EngineError> {
     let order = options.order;
     if order == 0 {
         return Err(EngineError::BadInput("the order must be at least 1".into()));
@@ -378,12 +399,23 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
     // Model spaces are independent, so they run on all cores; results keep the model-space
     // order. Only algebraic roots tie them together (a root found in one space is numbered for
     // all that follow), so when any space meets one, the spaces run again in order.
-    let parallel = solve_in_parallel(&jobs, n_params, &solve);
+    let spaces = jobs.len();
+    let new_ctx = |k: usize| {
+        let report = std::sync::Arc::clone(&report);
+        let on_order: std::sync::Arc<dyn Fn(usize) + Send + Sync> =
+            std::sync::Arc::new(move |m| report(Progress { space: k + 1, spaces, order: m }));
+        Context::new(n_params, Some(on_order))
+    };
+    let parallel = solve_in_parallel(&jobs, &new_ctx, &solve);
     let (model_spaces, ctx) = match parallel {
-        Some(spaces) => (spaces, Context { secular: Vec::new(), roots: Vec::new(), n_params }),
+        Some(spaces) => (spaces, Context::new(n_params, None)),
         None => {
-            let mut ctx = Context { secular: Vec::new(), roots: Vec::new(), n_params };
-            let spaces = jobs.iter().map(|job| solve(job, &mut ctx)).collect();
+            let mut ctx = Context::new(n_params, None);
+            let mut spaces = Vec::with_capacity(jobs.len());
+            for (k, job) in jobs.iter().enumerate() {
+                ctx.on_order = new_ctx(k).on_order;
+                spaces.push(solve(job, &mut ctx));
+            }
             (spaces, ctx)
         }
     };
@@ -502,7 +534,7 @@ fn solve_in<F: Scalar>(
     order: usize,
     ctx: &mut Context,
 ) -> Result<RawSpace<F>, FieldTooSmall> {
-    let bloch = bloch::wave_operator(problem, indices, order);
+    let bloch = bloch::wave_operator_with(problem, indices, order, &|m| ctx.report_order(m));
     let support = omega_support(&bloch);
     reduce(problem, bloch, support, indices, ctx, |bloch, c| lift(bloch, c))
 }
@@ -524,7 +556,8 @@ fn solve_symbolic(
     order: usize,
     ctx: &mut Context,
 ) -> Result<RawSpace<RatFunc>, FieldTooSmall> {
-    let fractions = bloch::wave_operator(working.fraction(), indices, order);
+    let fractions =
+        bloch::wave_operator_with(working.fraction(), indices, order, &|m| ctx.report_order(m));
     let support = omega_support(&fractions);
     // The wave operator itself stays in fractions: only the states need it, lifted below.
     let bloch = fractions.map_matrices(Fraction::to_ratfunc);
