@@ -23,11 +23,18 @@ fn model_text(name: &str) -> String {
 fn derive(c: &mut Criterion) {
     let mut group = c.benchmark_group("derive");
     group.sample_size(10);
-    let cases: [(&str, u32); 7] = [
+    let cases: [(&str, u32); 14] = [
         ("quartic_405", 50),
         ("quartic_405", 100),
         ("rabi", 8),
         ("rabi", 10),
+        ("rabi", 12),
+        ("rabi", 16),
+        ("transmon_resonator", 4),
+        ("transmon_resonator", 6),
+        ("near_resonant", 3),
+        ("near_resonant", 4),
+        ("bus", 3),
         ("examples/hubbard_dimer", 20),
         ("examples/spin_one_axial", 20),
         ("hubbard_ring6", 4),

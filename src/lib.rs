@@ -44,15 +44,5 @@ use diagnostics::Diagnostic;
 /// Render an error with [`Diagnostic::render`], giving the same text and a display name.
 pub fn load(text: &str) -> Result<(model::Model, lower::SourceMap), Diagnostic> {
     let file = syntax::parse(text)?;
-    exact::take_radicand_overflow();
-    let res = lower::lower(&file)?;
-    if exact::take_radicand_overflow() {
-        return Err(Diagnostic::new(
-            "a square root in this model has a square-free part beyond 64 bits, which cleave \
-             cannot hold exactly"
-                .to_string(),
-            diagnostics::Span::new(0, 0),
-        ));
-    }
-    Ok(res)
+    lower::lower(&file)
 }

@@ -97,9 +97,10 @@ impl Precision {
                 }
             }
             for (s, c) in coeff.terms() {
-                let root = self.sqrt(&self.of_rational(&Rational::from_i64(s.abs())));
+                let radicand = Rational::from_bigint(s.abs().to_bigint());
+                let root = self.sqrt(&self.of_rational(&radicand));
                 let term = self.mul(&self.mul(&root, &self.of_rational(c)), &factor);
-                if *s < 0 {
+                if s.is_negative() {
                     acc.im += term;
                 } else {
                     acc.re += term;

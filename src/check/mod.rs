@@ -817,8 +817,8 @@ fn evaluate_poly(poly: &crate::exact::Poly, params: &[f64]) -> (f64, f64) {
             factor *= params.get(p.0 as usize).copied().unwrap_or(f64::NAN).powi(*e as i32);
         }
         for (s, c) in coeff.terms() {
-            let root = (s.unsigned_abs() as f64).sqrt() * c.to_f64() * factor;
-            if *s < 0 {
+            let root = s.abs().to_f64().sqrt() * c.to_f64() * factor;
+            if s.is_negative() {
                 im += root;
             } else {
                 re += root;

@@ -323,8 +323,10 @@ fn derive(args: DeriveArgs) -> Result<(), Failure> {
     let loaded = fix_parameters(load(&args.model)?, &args.set)?;
     let at = parse_at(&args.at, &loaded.model)?;
     let options = DeriveOptions { order: order(args.order, &loaded)?, states: args.states };
-    let derivation = engine::derive(&loaded.model, &options)
+    let progress = ProgressLine::new();
+    let derivation = engine::derive_with_progress(&loaded.model, &options, progress.reporter())
         .map_err(|err| loaded.engine_failure(err, args.order.is_some()))?;
+    progress.finish();
     let model = &loaded.model;
     let mut outputs = Outputs::new(plan);
     outputs.set("json", || emit::json(model, &derivation));
@@ -791,4 +793,53 @@ fn resident_mib() -> Option<u64> {
 
 fn is_stdout(path: &Path) -> bool {
     path.as_os_str() == "-"
+}
+
+/// A one-line progress report on stderr for a derivation that runs longer than a second: which
+/// model space and order it is at. Only when stderr is a terminal and `CI` is unset, so pipes,
+/// files and CI logs stay clean.
+struct ProgressLine {
+    state: Option<std::sync::Arc<std::sync::Mutex<ProgressState>>>,
+}
+
+struct ProgressState {
+    start: std::time::Instant,
+    last: Option<std::time::Instant>,
+}
+
+impl ProgressLine {
+    fn new() -> ProgressLine {
+        use std::io::IsTerminal;
+        let enabled = std::io::stderr().is_terminal() && std::env::var_os("CI").is_none();
+        let state = enabled.then(|| {
+            std::sync::Arc::new(std::sync::Mutex::new(ProgressState {
+                start: std::time::Instant::now(),
+                last: None,
+            }))
+        });
+        ProgressLine { state }
+    }
+
+    /// The callback the engine calls; it redraws the line at most five times a second.
+    fn reporter(&self) -> std::sync::Arc<dyn Fn(engine::Progress) + Send + Sync> {
+        let Some(state) = self.state.clone() else { return std::sync::Arc::new(|_| {}) };
+        std::sync::Arc::new(move |p: engine::Progress| {
+            let Ok(mut state) = state.lock() else { return };
+            let now = std::time::Instant::now();
+            let due = state.last.map_or(true, |t| now - t >= std::time::Duration::from_millis(200));
+            if now - state.start < std::time::Duration::from_secs(1) || !due {
+                return;
+            }
+            state.last = Some(now);
+            eprint!("\rderiving: model space {}/{}, order {}\x1b[K", p.space, p.spaces, p.order);
+        })
+    }
+
+    /// Clears the line if it was drawn.
+    fn finish(&self) {
+        let drawn = self.state.as_ref().is_some_and(|s| s.lock().is_ok_and(|s| s.last.is_some()));
+        if drawn {
+            eprint!("\r\x1b[K");
+        }
+    }
 }

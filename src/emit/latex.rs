@@ -1025,7 +1025,7 @@ fn frac(numerator: &Tex, denominator: &Tex) -> Tex {
 
 /// Whether the atom's magnitude is exactly 1 with nothing else.
 fn is_unit(atom: &Atom) -> bool {
-    atom.root == 1 && !atom.imaginary && atom.factors.is_empty() && atom.magnitude.is_one()
+    atom.root.is_one() && !atom.imaginary && atom.factors.is_empty() && atom.magnitude.is_one()
 }
 
 /// A value of a model space typeset inline, factored over the unperturbed energy differences
@@ -1122,16 +1122,16 @@ fn factored_parts_pieces(
         res
     };
     let mut top: Vec<Tex> = Vec::new();
-    if !parts.constant.numer().is_one() || (parts.numer.is_empty() && parts.radicand == 1) {
+    if !parts.constant.numer().is_one() || (parts.numer.is_empty() && parts.radicand.is_one()) {
         let n = parts.constant.numer().to_string();
         top.push(Tex::new(n.clone(), n.len()));
     }
-    if parts.radicand != 1 {
+    if !parts.radicand.is_one() {
         let r = parts.radicand.abs().to_string();
-        if parts.radicand != -1 {
+        if !parts.radicand.is_unit() {
             top.push(Tex::new(format!("\\sqrt{{{r}}}"), r.len() + 1));
         }
-        if parts.radicand < 0 {
+        if parts.radicand.is_negative() {
             top.push(Tex::new("i", 1));
         }
     }
@@ -1202,7 +1202,7 @@ fn inline_sum(atoms: &[Atom], names: &[String]) -> Tex {
 /// The magnitude of an atom: `\frac{3}{4}\sqrt{2}\, i\, g^{2} \delta`.
 fn atom_tex(atom: &Atom, names: &[String]) -> Tex {
     let mut parts: Vec<Tex> = Vec::new();
-    let rest = atom.root != 1 || atom.imaginary || !atom.factors.is_empty();
+    let rest = !atom.root.is_one() || atom.imaginary || !atom.factors.is_empty();
     if !atom.magnitude.is_one() || !rest {
         let (numer, denom) =
             (atom.magnitude.numer().to_string(), atom.magnitude.denom().to_string());
@@ -1215,7 +1215,7 @@ fn atom_tex(atom: &Atom, names: &[String]) -> Tex {
             ));
         }
     }
-    if atom.root != 1 {
+    if !atom.root.is_one() {
         let root = atom.root.to_string();
         parts.push(Tex::new(format!("\\sqrt{{{root}}}"), root.len() + 1));
     }

@@ -245,10 +245,6 @@ fn model_space_report(
             let Some(s) = &branch.state else {
                 // Say why a branch has no state rather than leaving it out silently.
                 let why = match branch.state_missing {
-                    Some(MissingState::RadicandTooLarge) => {
-                        "not computed: its coefficients need square roots of numbers beyond 64 \
-                         bits (the energies are not affected)"
-                    }
                     Some(MissingState::Extension) => {
                         "not computed: a denominator of the state vanishes at this root of P"
                     }

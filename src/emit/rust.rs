@@ -4,6 +4,8 @@
 //! structure (`terms::fraction`); nothing is recomputed.
 
 use std::collections::BTreeSet;
+
+use crate::exact::Radicand;
 use std::fmt::Write;
 
 use num_bigint::BigInt;
@@ -61,7 +63,7 @@ pub(crate) fn rust(model: &Model, derivation: &Derivation, name: &str) -> String
         idents.push(Ident { code: code.clone(), bare: code });
     }
     let mut body = String::new();
-    let mut roots: BTreeSet<u64> = BTreeSet::new();
+    let mut roots: BTreeSet<Radicand> = BTreeSet::new();
     let mut dispatch: Vec<(String, Vec<usize>)> = Vec::new();
     for (space_idx, space) in derivation.model_spaces.iter().enumerate() {
         for (branch_idx, branch) in space.branches.iter().enumerate() {
@@ -136,7 +138,7 @@ pub(crate) fn rust(model: &Model, derivation: &Derivation, name: &str) -> String
         );
     }
     for root in &roots {
-        let value = (*root as f64).sqrt();
+        let value = root.to_f64().sqrt();
         let _ = writeln!(
             out,
             "/// `sqrt({root})`, the exact square root rounded once to the nearest `f64`.\n\
@@ -207,7 +209,7 @@ fn series_function(
     series: &[RatFunc],
     derivation: &Derivation,
     idents: &[Ident],
-    roots: &mut BTreeSet<u64>,
+    roots: &mut BTreeSet<Radicand>,
 ) {
     let names = &text::Names::for_derivation(derivation);
     let _ = writeln!(
@@ -237,7 +239,7 @@ fn operator_form_functions(
     space_idx: usize,
     form: &OperatorForm,
     idents: &[Ident],
-    roots: &mut BTreeSet<u64>,
+    roots: &mut BTreeSet<Radicand>,
 ) {
     for term in super::operators::grouped(form) {
         let suffix: String = term
@@ -360,7 +362,7 @@ fn branch_function(
     (space_idx, space): (usize, &ModelSpace),
     (branch_idx, branch): (usize, &Branch),
     idents: &[Ident],
-    roots: &mut BTreeSet<u64>,
+    roots: &mut BTreeSet<Radicand>,
 ) -> Vec<usize> {
     // The report's names, with the unperturbed energy differences it factors over.
     let names = &text::Names::for_derivation(derivation);
@@ -423,7 +425,7 @@ fn hamiltonian_function(
     space_idx: usize,
     space: &ModelSpace,
     idents: &[Ident],
-    roots: &mut BTreeSet<u64>,
+    roots: &mut BTreeSet<Radicand>,
 ) {
     // The report's names, with the unperturbed energy differences it factors over.
     let names = &text::Names::for_derivation(derivation);
@@ -583,7 +585,7 @@ fn is_sqrt_const(name: &str) -> bool {
 fn value_code(
     value: &RatFunc,
     idents: &[Ident],
-    roots: &mut BTreeSet<u64>,
+    roots: &mut BTreeSet<Radicand>,
     names: &text::Names,
 ) -> (String, String) {
     if let Some(code) = factored_code(value, idents, roots, names) {
@@ -591,8 +593,8 @@ fn value_code(
     }
     let fraction = terms::fraction(value);
     for atom in fraction.numer.iter().chain(&fraction.denom) {
-        if atom.root != 1 {
-            roots.insert(atom.root);
+        if !atom.root.is_one() {
+            roots.insert(atom.root.clone());
         }
     }
     let part = |atoms: &[Atom], imaginary: bool| -> Vec<Atom> {
@@ -627,16 +629,16 @@ fn value_code(
 fn factored_code(
     value: &RatFunc,
     idents: &[Ident],
-    roots: &mut BTreeSet<u64>,
+    roots: &mut BTreeSet<Radicand>,
     names: &text::Names,
 ) -> Option<String> {
     let parts = text::factor_value(value, names)?;
-    if parts.radicand < 0 {
+    if parts.radicand.is_negative() {
         return None;
     }
     let poly_code = |(p, e): &(crate::exact::Poly, u32)| -> Option<String> {
         let atoms = terms::atoms(p);
-        if atoms.iter().any(|a| a.imaginary || a.root != 1) {
+        if atoms.iter().any(|a| a.imaginary || !a.root.is_one()) {
             return None;
         }
         let code = sum_code(&atoms, idents);
@@ -644,11 +646,11 @@ fn factored_code(
         Some(if *e == 1 { code } else { format!("{code}.powi({e})") })
     };
     let mut top: Vec<String> = Vec::new();
-    if !parts.constant.is_one() || (parts.radicand == 1 && parts.numer.is_empty()) {
+    if !parts.constant.is_one() || (parts.radicand.is_one() && parts.numer.is_empty()) {
         top.push(rational_literal(&parts.constant));
     }
-    if parts.radicand != 1 {
-        roots.insert(parts.radicand.unsigned_abs());
+    if !parts.radicand.is_one() {
+        roots.insert(parts.radicand.abs());
         top.push(format!("SQRT_{}", parts.radicand));
     }
     for f in &parts.numer {
@@ -718,10 +720,10 @@ fn sum_code(atoms: &[Atom], idents: &[Ident]) -> String {
 /// `21.0 / 8.0 * SQRT_2 * g.powi(2) * t`: the rational first, so `/` binds as intended.
 fn atom_code(atom: &Atom, idents: &[Ident]) -> String {
     let mut parts: Vec<String> = Vec::new();
-    if !atom.magnitude.is_one() || (atom.root == 1 && atom.factors.is_empty()) {
+    if !atom.magnitude.is_one() || (atom.root.is_one() && atom.factors.is_empty()) {
         parts.push(rational_literal(&atom.magnitude));
     }
-    if atom.root != 1 {
+    if !atom.root.is_one() {
         parts.push(format!("SQRT_{}", atom.root));
     }
     for (param, exponent) in &atom.factors {

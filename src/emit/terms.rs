@@ -5,7 +5,7 @@
 use num_bigint::BigInt;
 use num_traits::One;
 
-use crate::exact::{Field, ParamId, Poly, RatFunc, Rational};
+use crate::exact::{Field, ParamId, Poly, Radicand, RatFunc, Rational};
 
 /// One signed product `sign * magnitude * sqrt(root) * (i if imaginary) * prod(p^e)`.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -15,7 +15,7 @@ pub(crate) struct Atom {
     /// The positive rational factor.
     pub magnitude: Rational,
     /// The square-free radicand of the square root, `1` when there is none.
-    pub root: u64,
+    pub root: Radicand,
     /// Whether the product carries a factor `i`.
     pub imaginary: bool,
     /// `(parameter, exponent)` pairs in parameter order, exponents positive.
@@ -25,7 +25,7 @@ pub(crate) struct Atom {
 impl Atom {
     /// Whether the atom is a plain rational number (no root, no `i`, no parameter).
     pub fn is_rational(&self) -> bool {
-        self.root == 1 && !self.imaginary && self.factors.is_empty()
+        self.root.is_one() && !self.imaginary && self.factors.is_empty()
     }
 
     /// The atom with its sign flipped.
@@ -74,8 +74,8 @@ pub(crate) fn atoms(poly: &Poly) -> Vec<Atom> {
             res.push(Atom {
                 negative: c.is_negative(),
                 magnitude: c.abs(),
-                root: s.unsigned_abs(),
-                imaginary: *s < 0,
+                root: s.abs(),
+                imaginary: s.is_negative(),
                 factors: monomial.factors().to_vec(),
             });
         }

@@ -12,7 +12,8 @@ use num_integer::Integer;
 use num_traits::{One, Zero};
 
 use crate::engine::Derivation;
-use crate::exact::{Field, Monomial, Poly, Radical, RatFunc, Rational, Symbols};
+use crate::exact::screen::{FactorPoint, Screen};
+use crate::exact::{Field, Monomial, Poly, Radical, Radicand, RatFunc, Rational, Symbols};
 use crate::linalg::SparseVec;
 use crate::model::Basis;
 use crate::spectrum::Spectrum;
@@ -21,6 +22,8 @@ use crate::spectrum::Spectrum;
 pub(crate) struct Names {
     list: Vec<String>,
     factors: Vec<Poly>,
+    /// Per factor, the point of `f = 0` that screens divisions (see [`Screen`]).
+    points: Vec<Option<FactorPoint>>,
 }
 
 impl Deref for Names {
@@ -62,7 +65,8 @@ impl Names {
                 }
             }
         }
-        Names { list, factors }
+        let points = factors.iter().map(FactorPoint::of).collect();
+        Names { list, factors, points }
     }
 }
 
@@ -77,12 +81,12 @@ fn primitive(p: &Poly) -> Option<Poly> {
 /// gcd of the rational parts (signed like the leading coefficient) times `sqrt(s)`.
 struct Content {
     rational: Rational,
-    radicand: i64,
+    radicand: Radicand,
 }
 
 impl Content {
     fn value(&self) -> Radical {
-        Radical::basis(self.radicand, self.rational.clone()).expect("square-free radicand")
+        Radical::basis_unchecked(self.radicand.clone(), self.rational.clone())
     }
 }
 
@@ -92,7 +96,7 @@ fn content(p: &Poly) -> Option<Content> {
     let mut denom = BigInt::one();
     for (_, c) in p.terms() {
         let [(s, q)] = c.terms() else { return None };
-        if *radicand.get_or_insert(*s) != *s {
+        if radicand.get_or_insert_with(|| s.clone()) != s {
             return None;
         }
         numer = numer.gcd(q.numer());
@@ -118,7 +122,7 @@ pub(crate) struct Factored {
     /// The positive rational constant.
     pub constant: Rational,
     /// The square-free radicand multiplying the numerator (1 for none).
-    pub radicand: i64,
+    pub radicand: Radicand,
     /// Numerator factors with their powers, each with a positive leading coefficient.
     pub numer: Vec<(Poly, u32)>,
     /// Denominator factors with their powers.
@@ -134,11 +138,11 @@ pub(crate) fn factor_value(value: &RatFunc, names: &Names) -> Option<Factored> {
     }
     let numer_content = content(value.numer())?;
     let denom_content = content(value.denom())?;
-    if denom_content.radicand != 1 {
+    if !denom_content.radicand.is_one() {
         return None;
     }
-    let numer = split(value.numer(), &numer_content, &names.factors)?;
-    let denom = split(value.denom(), &denom_content, &names.factors)?;
+    let numer = split(value.numer(), &numer_content, &names.factors, &names.points)?;
+    let denom = split(value.denom(), &denom_content, &names.factors, &names.points)?;
     if numer.powers.is_empty() && denom.powers.is_empty() {
         return None;
     }
@@ -161,8 +165,8 @@ fn factored(value: &RatFunc, names: &Names) -> Option<String> {
     if !parts.constant.numer().is_one() {
         top.push(parts.constant.numer().to_string());
     }
-    if parts.radicand != 1 {
-        top.push(Radical::basis(parts.radicand, Rational::one()).expect("square-free").to_string());
+    if !parts.radicand.is_one() {
+        top.push(Radical::basis_unchecked(parts.radicand.clone(), Rational::one()).to_string());
     }
     if !parts.constant.denom().is_one() {
         bottom.push(parts.constant.denom().to_string());
@@ -241,19 +245,26 @@ fn is_group(text: &str) -> bool {
     depth == 0
 }
 
-fn split(poly: &Poly, content: &Content, factors: &[Poly]) -> Option<Split> {
+fn split(
+    poly: &Poly,
+    content: &Content,
+    factors: &[Poly],
+    points: &[Option<FactorPoint>],
+) -> Option<Split> {
     let mut rest = poly.scale(&content.value().inv()?);
     let monomial = rest.monomial_content();
     if !monomial.is_one() {
         rest = rest.div_exact(&Poly::term(monomial.clone(), Radical::one()))?;
     }
     let mut powers = Vec::new();
-    for f in factors {
+    let mut screen = Screen::new(&rest);
+    for (f, point) in factors.iter().zip(points) {
         let mut e = 0;
-        while rest.degree() >= f.degree() {
+        while rest.degree() >= f.degree() && screen.may_vanish(point.as_ref()) {
             match rest.div_exact(f) {
                 Some(q) => {
                     rest = q;
+                    screen = Screen::new(&rest);
                     e += 1;
                 }
                 None => break,
@@ -322,11 +333,11 @@ fn signed_sum<'a>(terms: impl Iterator<Item = (&'a RatFunc, String)>, names: &Na
             continue;
         }
         let text = scalar(c, names);
-        let negated = scalar(&-c.clone(), names);
-        let (negative, magnitude) = if text.starts_with('-') && !is_sum(&negated) {
-            (true, negated)
-        } else {
-            (false, text)
+        // Only a value printed with a leading minus can be written as `- magnitude`.
+        let negated = if text.starts_with('-') { Some(scalar(&-c.clone(), names)) } else { None };
+        let (negative, magnitude) = match negated {
+            Some(negated) if !is_sum(&negated) => (true, negated),
+            _ => (false, text),
         };
         res.push_str(match (res.is_empty(), negative) {
             (true, true) => "-",

@@ -37,8 +37,24 @@ pub(crate) struct Context {
     pub roots: Vec<RootAtom>,
     /// Number of model parameters: root `r` is written as `ParamId(n_params + r)`.
     pub n_params: u32,
-    /// Set when a radicand outgrew 64 bits outside a state that could be left out.
-    pub radicand_overflow: bool,
+    /// Told each order the wave operator of the current model space reaches.
+    pub on_order: Option<std::sync::Arc<dyn Fn(usize) + Send + Sync>>,
+}
+
+impl Context {
+    /// A context for one derivation, reporting orders to `on_order`.
+    pub fn new(
+        n_params: u32,
+        on_order: Option<std::sync::Arc<dyn Fn(usize) + Send + Sync>>,
+    ) -> Context {
+        Context { secular: Vec::new(), roots: Vec::new(), n_params, on_order }
+    }
+    /// Tells the observer that order `m` is being computed.
+    pub fn report_order(&self, m: usize) {
+        if let Some(f) = &self.on_order {
+            f(m);
+        }
+    }
 }
 
 /// The energy series of the simple eigenvalue `scale * nu` of `series[0] = scale * numeric`

@@ -36,6 +36,20 @@ pub(crate) struct Bloch<F> {
     pub s_inv_half: Vec<DenseMatrix<F>>,
 }
 
+impl<F: Field> Bloch<F> {
+    /// The effective Hamiltonians and `S^(-1/2)` mapped into another field; `omega` is left empty
+    /// (the caller keeps the original to lift states with).
+    pub fn map_matrices<G: Field>(&self, f: impl Fn(&F) -> G + Copy) -> Bloch<G> {
+        Bloch {
+            model: self.model.clone(),
+            omega: Vec::new(),
+            bloch: self.bloch.iter().map(|m| m.map(f)).collect(),
+            hermitian: self.hermitian.iter().map(|m| m.map(f)).collect(),
+            s_inv_half: self.s_inv_half.iter().map(|m| m.map(f)).collect(),
+        }
+    }
+}
+
 /// Computes Bloch's wave operator for the model space `model` (a union of whole levels of `A_0`)
 /// to order `order`, then `H_B` and the Hermitian `H_eff`.
 ///
@@ -47,6 +61,16 @@ pub(crate) fn wave_operator<F: Field>(
     problem: &Problem<F>,
     model: &[usize],
     order: usize,
+) -> Bloch<F> {
+    wave_operator_with(problem, model, order, &|_| {})
+}
+
+/// [`wave_operator`], telling `on_order` each order `m` as it starts.
+pub(crate) fn wave_operator_with<F: Field>(
+    problem: &Problem<F>,
+    model: &[usize],
+    order: usize,
+    on_order: &dyn Fn(usize),
 ) -> Bloch<F> {
     let n = problem.energies.len();
     let d = model.len();
@@ -78,6 +102,7 @@ pub(crate) fn wave_operator<F: Field>(
     )];
 
     for m in 1..=order {
+        on_order(m);
         for (k, term) in problem.terms.iter().enumerate().take(m) {
             // A_{k+1} Omega_{m-k-1}: only the newest column set is new at this order.
             let m_prev = m - k - 1;

@@ -227,7 +227,7 @@ pub(crate) fn rationalize(problem: &Problem<Radical>) -> Option<(Problem<Rationa
     let n = problem.energies.len();
     let single = |v: &Radical| -> Option<(i64, Rational)> {
         match v.terms() {
-            [(s, c)] if *s > 0 => Some((*s, c.clone())),
+            [(s, c)] if !s.is_negative() => Some((s.to_i64()?, c.clone())),
             _ => None,
         }
     };

@@ -29,10 +29,10 @@ mod split;
 pub use operator_form::{Component, OperatorForm, OperatorTerm};
 pub use quantities::QuantitySeries;
 
-use std::cell::OnceCell;
 use std::collections::BTreeSet;
+use std::sync::OnceLock;
 
-use crate::exact::{Field, Radical, RatFunc, Rational, SquareRoot};
+use crate::exact::{Field, Fraction, Radical, RatFunc, Rational, SquareRoot};
 use crate::linalg::{DenseMatrix, SparseMatrix, SparseVec};
 use crate::model::Model;
 use crate::spectrum::{self, Spectrum};
@@ -216,9 +216,6 @@ pub struct Branch {
 pub enum MissingState {
     /// The branch's group does not split by order N, so no single state belongs to it.
     GroupNotSplit,
-    /// Its coefficients need square roots of numbers beyond 64 bits (high Fock states of an
-    /// oscillator, say); the energies are unaffected.
-    RadicandTooLarge,
     /// A denominator of the state vanishes at this root of `P` (a zero divisor of the extension).
     Extension,
 }
@@ -335,6 +332,12 @@ impl Scalar for Radical {
     }
 }
 
+impl Scalar for Fraction {
+    fn from_ratfunc(value: &RatFunc) -> Option<Fraction> {
+        Some(Fraction::from_ratfunc(value))
+    }
+}
+
 impl Scalar for RatFunc {
     fn from_ratfunc(value: &RatFunc) -> Option<RatFunc> {
         Some(value.clone())
@@ -350,8 +353,10 @@ struct Working {
     level_of: Vec<usize>,
     /// The problem in the radical field when it is numeric, and its rational rescaling: the same
     /// for every model space, so each is found once, when first needed.
-    radical: OnceCell<Option<Problem<Radical>>>,
-    rational: OnceCell<Option<(Problem<Rational>, fast::Rescaling)>>,
+    radical: OnceLock<Option<Problem<Radical>>>,
+    rational: OnceLock<Option<(Problem<Rational>, fast::Rescaling)>>,
+    /// The problem with denominators kept as products of known factors, for symbolic models.
+    fraction: OnceLock<Problem<Fraction>>,
 }
 
 impl Working {
@@ -360,7 +365,14 @@ impl Working {
         columns: Vec<SparseVec<RatFunc>>,
         level_of: Vec<usize>,
     ) -> Working {
-        Working { problem, columns, level_of, radical: OnceCell::new(), rational: OnceCell::new() }
+        Working {
+            problem,
+            columns,
+            level_of,
+            radical: OnceLock::new(),
+            rational: OnceLock::new(),
+            fraction: OnceLock::new(),
+        }
     }
     fn radical(&self) -> Option<&Problem<Radical>> {
         self.radical.get_or_init(|| try_convert::<Radical>(&self.problem)).as_ref()
@@ -368,10 +380,74 @@ impl Working {
     fn rational(&self) -> Option<&(Problem<Rational>, fast::Rescaling)> {
         self.rational.get_or_init(|| self.radical().and_then(fast::rationalize)).as_ref()
     }
+    fn fraction(&self) -> &Problem<Fraction> {
+        self.fraction.get_or_init(|| {
+            try_convert::<Fraction>(&self.problem).expect("every rational function converts")
+        })
+    }
+}
+
+/// Solves every job on the available cores, each with a fresh context, in job order; `None` when
+/// a single core is available or some model space met an algebraic root (see `derive`).
+fn solve_in_parallel<J: Sync>(
+    jobs: &[J],
+    new_ctx: &(impl Fn(usize) -> Context + Sync),
+    solve: &(impl Fn(&J, &mut Context) -> ModelSpace + Sync),
+) -> Option<Vec<ModelSpace>> {
+    let threads = std::thread::available_parallelism().map_or(1, |n| n.get()).min(jobs.len());
+    if threads <= 1 {
+        return None;
+    }
+    let next = std::sync::atomic::AtomicUsize::new(0);
+    let done: std::sync::Mutex<Vec<Option<ModelSpace>>> =
+        std::sync::Mutex::new((0..jobs.len()).map(|_| None).collect());
+    let roots_met = std::sync::atomic::AtomicBool::new(false);
+    std::thread::scope(|scope| {
+        for _ in 0..threads {
+            scope.spawn(|| loop {
+                let k = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                if k >= jobs.len() || roots_met.load(std::sync::atomic::Ordering::Relaxed) {
+                    break;
+                }
+                let mut ctx = new_ctx(k);
+                let space = solve(&jobs[k], &mut ctx);
+                if !ctx.roots.is_empty() {
+                    roots_met.store(true, std::sync::atomic::Ordering::Relaxed);
+                    break;
+                }
+                done.lock().expect("no thread panics while holding it")[k] = Some(space);
+            });
+        }
+    });
+    if roots_met.into_inner() {
+        return None;
+    }
+    done.into_inner().expect("no thread panicked").into_iter().collect()
+}
+
+/// Where a derivation is: model space `space` of `spaces` (from 1) is at order `order`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Progress {
+    /// The model space, counted from 1 in output order.
+    pub space: usize,
+    /// How many model spaces the derivation has.
+    pub spaces: usize,
+    /// The order its wave operator is computing.
+    pub order: usize,
 }
 
 /// Derives the perturbation series of `model` to `options.order`.
 pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, EngineError> {
+    derive_with_progress(model, options, std::sync::Arc::new(|_| {}))
+}
+
+/// [`derive()`], telling `report` where it is as it goes (from several threads at once when model
+/// spaces run in parallel); the result is the same.
+pub fn derive_with_progress(
+    model: &Model,
+    options: &DeriveOptions,
+    report: std::sync::Arc<dyn Fn(Progress) + Send + Sync>,
+) -> Result<Derivation, EngineError> {
     let order = options.order;
     if order == 0 {
         return Err(EngineError::BadOrder("the order must be at least 1".into()));
@@ -381,19 +457,11 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
             "order {order} is beyond what cleave computes (at most {MAX_ORDER})"
         )));
     }
-    crate::exact::take_radicand_overflow();
     let spectrum =
         spectrum::unperturbed_levels(model).map_err(|e| EngineError::Infeasible(e.to_string()))?;
     let working = working_problem(model, &spectrum);
     let spaces = model_space_levels(model, &spectrum)?;
     let n = working.problem.energies.len() as u64;
-    let mut model_spaces = Vec::new();
-    let mut ctx = Context {
-        secular: Vec::new(),
-        roots: Vec::new(),
-        n_params: model.params().len() as u32,
-        radicand_overflow: false,
-    };
     let space_dims: Vec<usize> = spaces
         .iter()
         .map(|levels| working.level_of.iter().filter(|l| levels.contains(l)).count())
@@ -402,6 +470,7 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
     if !estimate.is_allowed() {
         return Err(EngineError::Infeasible(too_costly(&estimate, spaces.len(), n, order)));
     }
+    let mut jobs = Vec::with_capacity(spaces.len());
     for levels in spaces {
         let indices: Vec<usize> = (0..working.level_of.len())
             .filter(|&i| levels.contains(&working.level_of[i]))
@@ -415,28 +484,39 @@ pub fn derive(model: &Model, options: &DeriveOptions) -> Result<Derivation, Engi
                 indices.len()
             )));
         }
-        model_spaces.push(solve_model_space(
-            options.states_to() as usize,
-            model,
-            &spectrum,
-            &working,
-            &levels,
-            &indices,
-            order as usize,
-            &mut ctx,
-        ));
+        jobs.push((levels, indices));
     }
-    if ctx.radicand_overflow || crate::exact::take_radicand_overflow() {
-        return Err(EngineError::Infeasible(format!(
-            "to order {order} this model needs the square root of a product of more primes than \
-             64-bit radicands hold (the square roots of every prime up to about 50 at once); lower \
-             the order or the oscillator cutoffs, or focus on a single level, whose series cleave \
-             computes over the rationals"
-        )));
-    }
-    if model.focus().is_empty() {
-        // Without focus lines there are no targets.
-    } else {
+    let n_params = model.params().len() as u32;
+    let solve = |(levels, indices): &(Vec<usize>, Vec<usize>), ctx: &mut Context| {
+        let states_to = options.states_to() as usize;
+        let order = order as usize;
+        solve_model_space(states_to, model, &spectrum, &working, levels, indices, order, ctx)
+    };
+    // Model spaces are independent, so they run on all cores; results keep the model-space
+    // order. Only algebraic roots tie them together (a root found in one space is numbered for
+    // all that follow), so when any space meets one, the spaces run again in order.
+    let spaces = jobs.len();
+    let new_ctx = |k: usize| {
+        let report = std::sync::Arc::clone(&report);
+        let on_order: std::sync::Arc<dyn Fn(usize) + Send + Sync> =
+            std::sync::Arc::new(move |m| report(Progress { space: k + 1, spaces, order: m }));
+        Context::new(n_params, Some(on_order))
+    };
+    let parallel = solve_in_parallel(&jobs, &new_ctx, &solve);
+    let (model_spaces, ctx) = match parallel {
+        Some(spaces) => (spaces, Context::new(n_params, None)),
+        None => {
+            let mut ctx = Context::new(n_params, None);
+            let mut spaces = Vec::with_capacity(jobs.len());
+            for (k, job) in jobs.iter().enumerate() {
+                ctx.on_order = new_ctx(k).on_order;
+                spaces.push(solve(job, &mut ctx));
+            }
+            (spaces, ctx)
+        }
+    };
+    let mut model_spaces = model_spaces;
+    if !model.focus().is_empty() {
         for (space, target) in model_spaces.iter_mut().zip(model.targets()) {
             if let Some(target) = target {
                 space.operator_form = Some(
@@ -519,18 +599,30 @@ fn working_problem(model: &Model, spectrum: &Spectrum) -> Working {
     let metric: Vec<RatFunc> = columns.iter().map(|u| u.conj().dot(u)).collect();
     let inv_metric: Vec<RatFunc> = metric.iter().map(|g| g.inv().expect("non-zero norm")).collect();
     let conj_columns: Vec<SparseVec<RatFunc>> = columns.iter().map(SparseVec::conj).collect();
+    // Which columns hold each product-basis state: `<u_i, V u_j>` is formed only for the columns
+    // that share a state with `V u_j`, not for all n^2 pairs.
+    let n_product = model.basis().dimension();
+    let mut holders: Vec<Vec<(usize, &RatFunc)>> = vec![Vec::new(); n_product];
+    for (i, ui) in conj_columns.iter().enumerate() {
+        for (p, x) in ui.entries() {
+            holders[*p].push((i, x));
+        }
+    }
     let terms = model
         .perturbations()
         .iter()
         .map(|v| {
-            let images: Vec<SparseVec<RatFunc>> = columns.iter().map(|u| v.mul_vec(u)).collect();
             let mut triplets = Vec::new();
-            for (i, ui) in conj_columns.iter().enumerate() {
-                for (j, vu) in images.iter().enumerate() {
-                    let x = ui.dot(vu);
-                    if !x.is_zero() {
-                        triplets.push((i, j, x * &inv_metric[i]));
+            for (j, u) in columns.iter().enumerate() {
+                let image = v.mul_vec(u);
+                let mut products: Vec<(usize, RatFunc)> = Vec::new();
+                for (p, y) in image.entries() {
+                    for (i, x) in &holders[*p] {
+                        products.push((*i, x.mul_ref(y)));
                     }
+                }
+                for (i, x) in SparseVec::from_pairs(products).entries() {
+                    triplets.push((*i, j, x.clone() * &inv_metric[*i]));
                 }
             }
             SparseMatrix::from_triplets(columns.len(), columns.len(), triplets)
@@ -593,7 +685,52 @@ fn solve_in<F: Scalar>(
     order: usize,
     ctx: &mut Context,
 ) -> Result<RawSpace<F>, FieldTooSmall> {
-    let bloch = bloch::wave_operator(problem, indices, order);
+    let bloch = bloch::wave_operator_with(problem, indices, order, &|m| ctx.report_order(m));
+    let support = omega_support(&bloch);
+    reduce(problem, bloch, support, indices, ctx, |bloch, c| lift(bloch, c))
+}
+
+/// The indices each `Omega_m` reaches, `m = 0..=N`.
+fn omega_support<F: Field>(bloch: &bloch::Bloch<F>) -> Vec<BTreeSet<usize>> {
+    let columns = bloch.omega.iter();
+    columns
+        .map(|cols| cols.iter().flat_map(|c| c.entries().iter().map(|(i, _)| *i)).collect())
+        .collect()
+}
+
+/// A symbolic model space: the wave operator and both effective Hamiltonians run on fractions
+/// over the known energy differences (sums without gcds), then the values are cancelled by those
+/// factors into lowest-terms rational functions for Kato's reduction and the results.
+fn solve_symbolic(
+    working: &Working,
+    indices: &[usize],
+    order: usize,
+    ctx: &mut Context,
+) -> Result<RawSpace<RatFunc>, FieldTooSmall> {
+    let fractions =
+        bloch::wave_operator_with(working.fraction(), indices, order, &|m| ctx.report_order(m));
+    let support = omega_support(&fractions);
+    // The wave operator itself stays in fractions: only the states need it, lifted below.
+    let bloch = fractions.map_matrices(Fraction::to_ratfunc);
+    // States are lifted with the fractions too: the sums over the wave operator's columns are
+    // where a gcd per addition would cost most.
+    let lift_fractions = |_: &bloch::Bloch<RatFunc>, c: &[SparseVec<RatFunc>]| {
+        let c: Vec<SparseVec<Fraction>> =
+            c.iter().map(|v| v.map(|_, x| Fraction::from_ratfunc(x))).collect();
+        lift(&fractions, &c).iter().map(|v| v.map(|_, x| x.to_ratfunc())).collect()
+    };
+    reduce(&working.problem, bloch, support, indices, ctx, lift_fractions)
+}
+
+/// Kato's reduction of a model space whose wave operator is known, and the branch states.
+fn reduce<F: Scalar>(
+    problem: &Problem<F>,
+    bloch: bloch::Bloch<F>,
+    omega_support: Vec<BTreeSet<usize>>,
+    indices: &[usize],
+    ctx: &mut Context,
+    lift: impl Fn(&bloch::Bloch<F>, &[SparseVec<F>]) -> Vec<SparseVec<F>>,
+) -> Result<RawSpace<F>, FieldTooSmall> {
     let stage = Stage {
         series: bloch.hermitian.clone(),
         metric: indices.iter().map(|&i| problem.metric[i].clone()).collect(),
@@ -601,11 +738,6 @@ fn solve_in<F: Scalar>(
     ctx.secular.clear();
     let raw = branches(stage, 0, ctx)?;
     let vectors = raw.iter().map(|b| b.vector.as_ref().map(|c| lift(&bloch, c))).collect();
-    let omega_support = bloch
-        .omega
-        .iter()
-        .map(|cols| cols.iter().flat_map(|c| c.entries().iter().map(|(i, _)| *i)).collect())
-        .collect();
     Ok(RawSpace {
         bloch,
         branches: raw,
@@ -653,8 +785,6 @@ struct Solved {
     omega_support: Vec<BTreeSet<usize>>,
     branches: Vec<RawBranch<RatFunc>>,
     vectors: Vec<Option<Vec<SparseVec<RatFunc>>>>,
-    /// Per branch: its vector needed square roots beyond 64 bits when converted (and is `None`).
-    state_too_large: Vec<bool>,
     secular: Vec<RawSecular>,
 }
 
@@ -664,7 +794,6 @@ fn to_solved<F: Scalar>(
     raw: RawSpace<F>,
     rescaled: Option<(&fast::Rescaling, usize)>,
     states_to: usize,
-    ctx: &mut Context,
 ) -> Solved {
     let conv_vec = |v: &SparseVec<F>| -> SparseVec<RatFunc> {
         match rescaled {
@@ -675,24 +804,10 @@ fn to_solved<F: Scalar>(
         }
     };
     let omega_support = raw.omega_support;
-    // Converting back to the original basis can need square roots beyond 64 bits (the Fock states
-    // of a big oscillator); such a state is left out, and an overflow met earlier is kept.
-    ctx.radicand_overflow |= crate::exact::take_radicand_overflow();
-    let mut state_too_large = Vec::with_capacity(raw.vectors.len());
     let vectors = raw
         .vectors
         .iter()
-        .map(|v| {
-            let converted =
-                v.as_ref().map(|s| s.iter().take(states_to + 1).map(conv_vec).collect());
-            let too_large = crate::exact::take_radicand_overflow();
-            state_too_large.push(too_large);
-            if too_large {
-                None
-            } else {
-                converted
-            }
-        })
+        .map(|v| v.as_ref().map(|s| s.iter().take(states_to + 1).map(conv_vec).collect()))
         .collect();
     Solved {
         bloch_h: raw.bloch.bloch.iter().map(|m| m.map(F::to_ratfunc)).collect(),
@@ -712,7 +827,6 @@ fn to_solved<F: Scalar>(
             })
             .collect(),
         vectors,
-        state_too_large,
         secular: raw.secular,
     }
 }
@@ -725,12 +839,11 @@ fn solve_fields(
     states_to: usize,
     ctx: &mut Context,
 ) -> Solved {
-    let problem = &working.problem;
     if let Some(radical) = working.radical() {
         if indices.len() == 1 {
             if let Some((rational, rescaling)) = working.rational() {
                 if let Ok(raw) = solve_one_state(rational, indices[0], order, states_to) {
-                    return to_solved(raw, Some((rescaling, indices[0])), states_to, ctx);
+                    return to_solved(raw, Some((rescaling, indices[0])), states_to);
                 }
             }
         }
@@ -742,12 +855,13 @@ fn solve_fields(
                 b.energy.iter().any(|e| e.params().iter().any(|p| p.0 >= n_params))
             };
             if !raw.branches.iter().any(mentions_root) {
-                return to_solved(raw, None, states_to, ctx);
+                return to_solved(raw, None, states_to);
             }
         }
     }
-    let raw = solve_in(problem, indices, order, ctx).expect("rational functions hold every value");
-    to_solved(raw, None, states_to, ctx)
+    let raw =
+        solve_symbolic(working, indices, order, ctx).expect("rational functions hold every value");
+    to_solved(raw, None, states_to)
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -815,26 +929,19 @@ fn solve_model_space(
         .branches
         .iter()
         .zip(&solved.vectors)
-        .zip(&solved.state_too_large)
-        .map(|((b, vec), &converted_too_large)| {
-            // A state whose square roots outgrow 64 bits is left out, not the whole derivation:
-            // an overflow met before this point is kept for `derive` to report.
-            ctx.radicand_overflow |= crate::exact::take_radicand_overflow();
+        .map(|(b, vec)| {
             let state = vec.as_ref().and_then(|series| {
                 let product: Vec<SparseVec<RatFunc>> = series.iter().map(to_product).collect();
                 let state =
                     intermediate_normalization(product, (order - b.isolated_at).min(states_to));
                 reduce_state_roots(state, &ctx.roots, ctx.n_params)
             });
-            let too_large = crate::exact::take_radicand_overflow() || converted_too_large;
-            let state = if too_large { None } else { state };
-            let state_missing = match (&state, too_large) {
-                (Some(_), _) => None,
-                _ if b.multiplicity > 1 || b.not_split.is_some() => {
+            let state_missing = match &state {
+                Some(_) => None,
+                None if b.multiplicity > 1 || b.not_split.is_some() => {
                     Some(MissingState::GroupNotSplit)
                 }
-                (None, true) => Some(MissingState::RadicandTooLarge),
-                (None, false) => Some(MissingState::Extension),
+                None => Some(MissingState::Extension),
             };
             let zeroth_order = match &state {
                 Some(series) => vec![series.coefficients[0].clone()],

@@ -7,11 +7,13 @@
 mod algebraic;
 pub mod angular;
 pub mod factor;
+mod fraction;
 mod poly;
 mod radical;
 mod ratfunc;
 mod rational;
 pub mod roots;
+pub(crate) mod screen;
 mod size;
 pub mod univariate;
 
@@ -19,8 +21,9 @@ use std::fmt::Debug;
 use std::ops::{Add, AddAssign, Mul, MulAssign, Neg, Sub, SubAssign};
 
 pub use algebraic::{Algebraic, ALPHA};
+pub use fraction::Fraction;
 pub use poly::{Monomial, Poly};
-pub use radical::{split_square, take_radicand_overflow, Radical};
+pub use radical::{split_square, Radical, Radicand};
 pub use ratfunc::RatFunc;
 pub use rational::Rational;
 pub use size::{ValueSize, MAX_PRODUCT_WORK, MAX_VALUE_BITS, MAX_VALUE_TERMS};
@@ -85,6 +88,11 @@ pub trait Field:
     /// `self / other`, `None` when `other` is zero.
     fn checked_div(&self, other: &Self) -> Option<Self> {
         other.inv().map(|inv| self.mul_ref(&inv))
+    }
+    /// The sum of `values`. A field whose additions cost more when done one by one (fractions
+    /// brought to a common denominator each time) overrides it to do that work once.
+    fn sum_of(values: Vec<Self>) -> Self {
+        values.into_iter().fold(Self::zero(), |acc, v| acc + &v)
     }
     /// Embeds the value into the most general scalar type, the one every output reads.
     fn to_ratfunc(&self) -> RatFunc;

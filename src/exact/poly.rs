@@ -352,12 +352,31 @@ impl Poly {
                 return None;
             }
         }
-        let mut rest = self.clone();
+        // The remainder in an ordered map, so that each step costs a few map updates rather than
+        // a pass over the whole remainder: leading terms come off the top in canonical order,
+        // which is also the order of the quotient's terms.
+        let mut rest: std::collections::BTreeMap<Graded, Radical> =
+            self.terms.iter().map(|(m, c)| (Graded(m.clone()), c.clone())).collect();
         let mut quotient = Vec::new();
-        while let Some((m, c)) = rest.terms.first() {
+        while let Some((Graded(m), c)) = rest.pop_first() {
             let q_mono = m.div(lead_mono)?;
-            let q_coef = c * &lead_inv;
-            rest = &rest - &divisor.mul_term(&q_mono, &q_coef);
+            let q_coef = &c * &lead_inv;
+            for (dm, dc) in &divisor.terms[1..] {
+                let product = dc * &q_coef;
+                match rest.entry(Graded(dm.mul(&q_mono))) {
+                    std::collections::btree_map::Entry::Occupied(mut entry) => {
+                        let left = entry.get().clone() - &product;
+                        if left.is_zero() {
+                            entry.remove();
+                        } else {
+                            *entry.get_mut() = left;
+                        }
+                    }
+                    std::collections::btree_map::Entry::Vacant(entry) => {
+                        entry.insert(-product);
+                    }
+                }
+            }
             quotient.push((q_mono, q_coef));
         }
         Some(Poly { terms: quotient })
@@ -504,6 +523,23 @@ impl Poly {
     }
 }
 forward_ops!(Poly);
+
+/// A monomial ordered so that the canonical leading term (the greatest in graded order) comes
+/// first in a `BTreeMap`.
+#[derive(PartialEq, Eq)]
+struct Graded(Monomial);
+
+impl Ord for Graded {
+    fn cmp(&self, other: &Graded) -> Ordering {
+        other.0.graded_cmp(&self.0)
+    }
+}
+
+impl PartialOrd for Graded {
+    fn partial_cmp(&self, other: &Graded) -> Option<Ordering> {
+        Some(self.cmp(other))
+    }
+}
 
 struct PolyDisplay<'a> {
     poly: &'a Poly,

@@ -5,9 +5,148 @@
 use std::fmt;
 
 use num_bigint::BigInt;
+use num_integer::Integer;
 use num_traits::{One, Signed, ToPrimitive, Zero};
 
 use super::{forward_ops, Field, RatFunc, Rational, SquareRoot};
+
+/// The square-free integer `s` under a square root `sqrt(s)` (`s = -1` is `i`), of any size.
+///
+/// Radicands that fit `i64` (all that physics models meet) are stored inline; larger ones as big
+/// integers, so products of square roots are exact however large the radicand grows. `Ord` is the
+/// order of the integers.
+#[derive(Clone, PartialEq, Eq, Hash, Debug)]
+pub struct Radicand(Repr);
+
+/// Invariant: `Big` only for values outside `i64`, so equal integers have equal representations.
+#[derive(Clone, PartialEq, Eq, Hash, Debug)]
+enum Repr {
+    Small(i64),
+    Big(Box<BigInt>),
+}
+
+impl Radicand {
+    /// The radicand 1 (the rational part of a value).
+    pub const ONE: Radicand = Radicand(Repr::Small(1));
+    /// The radicand -1 (`i`).
+    pub const MINUS_ONE: Radicand = Radicand(Repr::Small(-1));
+
+    /// The integer `value`, not checked to be square-free.
+    pub(crate) fn from_bigint(value: BigInt) -> Radicand {
+        match value.to_i64() {
+            Some(small) => Radicand(Repr::Small(small)),
+            None => Radicand(Repr::Big(Box::new(value))),
+        }
+    }
+    /// The value when it fits `i64`.
+    pub fn to_i64(&self) -> Option<i64> {
+        match &self.0 {
+            Repr::Small(s) => Some(*s),
+            Repr::Big(_) => None,
+        }
+    }
+    /// The value as a big integer.
+    pub fn to_bigint(&self) -> BigInt {
+        match &self.0 {
+            Repr::Small(s) => BigInt::from(*s),
+            Repr::Big(b) => (**b).clone(),
+        }
+    }
+    /// The nearest `f64` (for numeric checks and emitted code).
+    pub fn to_f64(&self) -> f64 {
+        match &self.0 {
+            Repr::Small(s) => s.to_f64().unwrap_or(f64::NAN),
+            Repr::Big(b) => b.to_f64().unwrap_or(f64::NAN),
+        }
+    }
+    /// Whether this is 1 (no square root).
+    pub fn is_one(&self) -> bool {
+        matches!(self.0, Repr::Small(1))
+    }
+    /// Whether this is negative (the square root carries `i`).
+    pub fn is_negative(&self) -> bool {
+        match &self.0 {
+            Repr::Small(s) => *s < 0,
+            Repr::Big(b) => b.is_negative(),
+        }
+    }
+    /// The absolute value.
+    pub fn abs(&self) -> Radicand {
+        match &self.0 {
+            Repr::Small(s) => match s.checked_abs() {
+                Some(a) => Radicand(Repr::Small(a)),
+                None => Radicand::from_bigint(BigInt::from(*s).abs()),
+            },
+            Repr::Big(b) => Radicand::from_bigint(b.abs()),
+        }
+    }
+    /// Whether the absolute value is 1 (`1` or `i`).
+    pub fn is_unit(&self) -> bool {
+        matches!(self.0, Repr::Small(1 | -1))
+    }
+    /// `-self`.
+    fn negated(&self) -> Radicand {
+        match &self.0 {
+            Repr::Small(s) if *s != i64::MIN => Radicand(Repr::Small(-s)),
+            _ => Radicand::from_bigint(-self.to_bigint()),
+        }
+    }
+    /// Whether `divisor` divides `self`.
+    fn divisible_by(&self, divisor: &Radicand) -> bool {
+        match (&self.0, &divisor.0) {
+            (Repr::Small(a), Repr::Small(d)) => a % d == 0,
+            _ => (self.to_bigint() % divisor.to_bigint()).is_zero(),
+        }
+    }
+    /// `self / divisor` for a divisor that divides it.
+    fn exact_div(&self, divisor: &Radicand) -> Radicand {
+        match (&self.0, &divisor.0) {
+            (Repr::Small(a), Repr::Small(d)) if !(*a == i64::MIN && *d == -1) => {
+                Radicand(Repr::Small(a / d))
+            }
+            _ => Radicand::from_bigint(self.to_bigint() / divisor.to_bigint()),
+        }
+    }
+    /// The non-negative gcd of the two integers.
+    fn gcd(&self, other: &Radicand) -> Radicand {
+        match (&self.0, &other.0) {
+            (Repr::Small(a), Repr::Small(b)) => {
+                Radicand::from_bigint(BigInt::from(a.unsigned_abs().gcd(&b.unsigned_abs())))
+            }
+            _ => Radicand::from_bigint(self.to_bigint().gcd(&other.to_bigint())),
+        }
+    }
+}
+
+impl From<i64> for Radicand {
+    fn from(value: i64) -> Radicand {
+        Radicand(Repr::Small(value))
+    }
+}
+
+impl Ord for Radicand {
+    fn cmp(&self, other: &Radicand) -> std::cmp::Ordering {
+        match (&self.0, &other.0) {
+            (Repr::Small(a), Repr::Small(b)) => a.cmp(b),
+            _ => self.to_bigint().cmp(&other.to_bigint()),
+        }
+    }
+}
+
+impl PartialOrd for Radicand {
+    fn partial_cmp(&self, other: &Radicand) -> Option<std::cmp::Ordering> {
+        Some(self.cmp(other))
+    }
+}
+
+impl fmt::Display for Radicand {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match &self.0 {
+            Repr::Small(s) => write!(f, "{s}"),
+            Repr::Big(b) => write!(f, "{b}"),
+        }
+    }
+}
 
 /// An element of Q(i, sqrt 2, sqrt 3, ...): a sum of `c_s * sqrt(s)` over square-free integers `s`
 /// (`s = 1` is the rational part, `s = -1` is `i`, `s = -2` is `i*sqrt(2)`).
@@ -16,7 +155,7 @@ use super::{forward_ops, Field, RatFunc, Rational, SquareRoot};
 /// derived `Ord` is structural (it is total and deterministic, not the order of the reals).
 #[derive(Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Debug)]
 pub struct Radical {
-    terms: Vec<(i64, Rational)>,
+    terms: Vec<(Radicand, Rational)>,
 }
 
 /// Splits `n` into `(k, s)` with `n = k^2 * s` and `s` square-free.
@@ -55,41 +194,20 @@ pub fn split_square(n: u64) -> (u64, u64) {
     (square_root, free)
 }
 
-thread_local! {
-    /// Set when a square-free radicand outgrew `i64` (see [`take_radicand_overflow`]).
-    static RADICAND_OVERFLOW: std::cell::Cell<bool> = const { std::cell::Cell::new(false) };
-}
-
-/// Whether some radicand outgrew `i64` on this thread since the last call, which then clears it.
+/// Splits a positive `BigInt` into `(k, s)` with `n = k^2 * s` and `s` square-free.
 ///
-/// Arithmetic cannot fail, so a radicand beyond 64 bits (a product of the square roots of every
-/// prime up to about 50) is recorded here and the value computed is meaningless; callers that run
-/// a computation (the engine, the spectrum) check this flag and report that the computation cannot
-/// be done exactly, instead of printing a wrong value or panicking.
-pub fn take_radicand_overflow() -> bool {
-    RADICAND_OVERFLOW.with(|flag| flag.replace(false))
-}
-
-fn note_radicand_overflow() -> i64 {
-    RADICAND_OVERFLOW.with(|flag| flag.set(true));
-    1
-}
-
-/// Splits a positive `BigInt` into `(k, s)` with `n = k^2 * s`, `s` square-free in `i64`.
-/// A square-free part beyond `i64` is recorded by [`take_radicand_overflow`].
-fn split_square_big(n: &BigInt) -> (BigInt, i64) {
+/// Beyond `u64`, small primes are divided out by trial division and the rest is split by Pollard's
+/// rho method with Miller–Rabin primality tests (see [`split_rest`]).
+fn split_square_big(n: &BigInt) -> (BigInt, BigInt) {
     if let Some(small) = n.to_u64() {
         let (k, s) = split_square(small);
-        let s = i64::try_from(s).unwrap_or_else(|_| note_radicand_overflow());
-        return (BigInt::from(k), s);
+        return (BigInt::from(k), BigInt::from(s));
     }
-    // Beyond u64 only small factors are pulled out; what remains is either a perfect square or
-    // taken as square-free.
     let mut rest = n.clone();
     let mut square_root = BigInt::one();
     let mut free = BigInt::one();
     let mut d = 2u64;
-    while d < 100_000 {
+    while d < 10_000 {
         let big_d = BigInt::from(d);
         let mut count = 0;
         while (&rest % &big_d).is_zero() {
@@ -104,19 +222,125 @@ fn split_square_big(n: &BigInt) -> (BigInt, i64) {
         }
         d += if d == 2 { 1 } else { 2 };
     }
-    if let Some(small) = rest.to_u64() {
-        let (k, s) = split_square(small);
-        square_root *= k;
-        free *= s;
-    } else {
-        let root = rest.sqrt();
-        if &root * &root == rest {
-            square_root *= root;
+    let mut primes: Vec<BigInt> = Vec::new();
+    split_rest(rest, &mut primes);
+    primes.sort();
+    let mut idx = 0;
+    while idx < primes.len() {
+        if idx + 1 < primes.len() && primes[idx] == primes[idx + 1] {
+            square_root *= &primes[idx];
+            idx += 2;
         } else {
-            free *= rest;
+            free *= &primes[idx];
+            idx += 1;
         }
     }
-    (square_root, free.to_i64().unwrap_or_else(note_radicand_overflow))
+    (square_root, free)
+}
+
+/// Appends to `out` factors of `n > 0` (free of primes below 10^4) whose product is `n`: primes,
+/// found by Pollard's rho method (Brent's variant) and the Miller–Rabin test.
+///
+/// Miller–Rabin with the first twelve prime bases is exact below 3.3 * 10^24 and wrong for
+/// composites beyond with probability below 4^-12; a composite whose factors the rho method does
+/// not find within its step budget (two primes beyond some 10^9 each) is kept whole, unless it is
+/// a perfect square. Radicands this large only come from model text that writes them.
+fn split_rest(n: BigInt, out: &mut Vec<BigInt>) {
+    if n.is_one() {
+        return;
+    }
+    let root = n.sqrt();
+    if &root * &root == n {
+        split_rest(root.clone(), out);
+        split_rest(root, out);
+        return;
+    }
+    if is_probable_prime(&n) {
+        out.push(n);
+        return;
+    }
+    match rho_factor(&n) {
+        Some(d) => {
+            let other = &n / &d;
+            split_rest(d, out);
+            split_rest(other, out);
+        }
+        None => out.push(n),
+    }
+}
+
+/// Miller–Rabin with the first twelve primes as bases, for odd `n` beyond 10^4.
+fn is_probable_prime(n: &BigInt) -> bool {
+    let one = BigInt::one();
+    let n_minus_one = n - &one;
+    let mut d = n_minus_one.clone();
+    let mut r = 0u32;
+    while d.is_even() {
+        d >>= 1;
+        r += 1;
+    }
+    'bases: for base in [2u32, 3, 5, 7, 11, 13, 17, 19, 23, 29, 31, 37] {
+        let mut x = BigInt::from(base).modpow(&d, n);
+        if x == one || x == n_minus_one {
+            continue;
+        }
+        for _ in 1..r {
+            x = (&x * &x) % n;
+            if x == n_minus_one {
+                continue 'bases;
+            }
+        }
+        return false;
+    }
+    true
+}
+
+/// A non-trivial factor of the odd composite `n` by Brent's variant of Pollard's rho method, or
+/// `None` when the step budget runs out.
+fn rho_factor(n: &BigInt) -> Option<BigInt> {
+    const BUDGET: u64 = 1 << 16;
+    for c in 1u32..4 {
+        let c = BigInt::from(c);
+        let step = |x: &BigInt| (x * x + &c) % n;
+        let (mut x, mut y) = (BigInt::from(2), BigInt::from(2));
+        let mut steps = 0u64;
+        let mut product = BigInt::one();
+        let mut last = (x.clone(), y.clone());
+        loop {
+            x = step(&x);
+            y = step(&step(&y));
+            product = (product * (&x - &y).abs()) % n;
+            steps += 1;
+            if steps % 64 == 0 || product.is_zero() {
+                let g = product.gcd(n);
+                if g.is_one() {
+                    last = (x.clone(), y.clone());
+                } else {
+                    // Redo the last block one step at a time when the batch overshot to `n`.
+                    let (mut x1, mut y1) = last.clone();
+                    let mut g = g;
+                    if &g == n {
+                        loop {
+                            x1 = step(&x1);
+                            y1 = step(&step(&y1));
+                            g = (&x1 - &y1).abs().gcd(n);
+                            if !g.is_one() {
+                                break;
+                            }
+                        }
+                    }
+                    if &g != n {
+                        return Some(g);
+                    }
+                    break;
+                }
+            }
+            if steps >= BUDGET {
+                return None;
+            }
+        }
+    }
+    None
 }
 
 /// The smallest prime factor of `n > 1`.
@@ -135,25 +359,38 @@ fn smallest_prime_factor(n: u64) -> u64 {
 ///
 /// With `g = gcd(a, b)` the product `ab = g^2 (a/g)(b/g)` and `(a/g)(b/g)` is square-free. Two
 /// negative radicands give `i*sqrt|a| * i*sqrt|b| = -sqrt(ab)`, hence the sign.
-fn mul_basis(a: i64, b: i64) -> (i64, i64) {
-    if a == 1 {
-        return (1, b);
+fn mul_basis(a: &Radicand, b: &Radicand) -> (Rational, Radicand) {
+    if a.is_one() {
+        return (Rational::one(), b.clone());
     }
-    if b == 1 {
-        return (1, a);
+    if b.is_one() {
+        return (Rational::one(), a.clone());
     }
-    let g = num_integer::Integer::gcd(&a, &b);
-    let s = (a / g).checked_mul(b / g).unwrap_or_else(note_radicand_overflow);
-    let coef = if a < 0 && b < 0 { -g } else { g };
+    let negative = a.is_negative() && b.is_negative();
+    if let (Some(x), Some(y)) = (a.to_i64(), b.to_i64()) {
+        let g = x.unsigned_abs().gcd(&y.unsigned_abs());
+        let g = i64::try_from(g).expect("a divisor of an i64");
+        let coef = Rational::from_i64(if negative { -g } else { g });
+        let s = match (x / g).checked_mul(y / g) {
+            Some(s) => Radicand::from(s),
+            None => Radicand::from_bigint(BigInt::from(x / g) * BigInt::from(y / g)),
+        };
+        return (coef, s);
+    }
+    let (x, y) = (a.to_bigint(), b.to_bigint());
+    let g = x.gcd(&y);
+    let s = Radicand::from_bigint((&x / &g) * (&y / &g));
+    let coef = Rational::from_bigint(if negative { -g } else { g });
     (coef, s)
 }
 
-/// Whether the conjugation named by `prime` (`-1` for complex conjugation) negates `sqrt(s)`.
-fn flips(prime: i64, s: i64) -> bool {
-    if prime == -1 {
-        s < 0
+/// Whether the conjugation named by `base` (`-1` for complex conjugation, otherwise a radicand
+/// factor from [`Radical::some_base`]) negates `sqrt(s)`.
+fn flips(base: &Radicand, s: &Radicand) -> bool {
+    if *base == Radicand::MINUS_ONE {
+        s.is_negative()
     } else {
-        s % prime == 0
+        s.divisible_by(base)
     }
 }
 
@@ -165,30 +402,35 @@ impl Radical {
     ///
     /// With `value = p/q` in lowest terms, `p = a^2 s1` and `q = b^2 s2`, the root is
     /// `a/(b s2) * sqrt(s1 s2)`; `s1 s2` is square-free because `p` and `q` are coprime.
-    ///
-    /// A square-free part of `p*q` beyond `i64` is recorded by [`take_radicand_overflow`].
     pub fn sqrt_of(value: &Rational) -> Radical {
         if value.is_zero() {
             return Radical::zero();
         }
         let (a, s1) = split_square_big(&value.numer().abs());
         let (b, s2) = split_square_big(value.denom());
-        let s = s1.checked_mul(s2).unwrap_or_else(note_radicand_overflow);
+        let s = &s1 * &s2;
         let s = if value.is_negative() { -s } else { s };
-        let coef = Rational::new(a, b * BigInt::from(s2)).expect("denominator is positive");
-        Radical { terms: vec![(s, coef)] }
+        let coef = Rational::new(a, b * s2).expect("denominator is positive");
+        Radical { terms: vec![(Radicand::from_bigint(s), coef)] }
     }
     /// The imaginary unit.
     pub fn i() -> Radical {
-        Radical { terms: vec![(-1, Rational::one())] }
+        Radical { terms: vec![(Radicand::MINUS_ONE, Rational::one())] }
+    }
+    /// `coef * sqrt(s)` for an `s` the caller knows to be square-free (taken from another value).
+    pub(crate) fn basis_unchecked(s: Radicand, coef: Rational) -> Radical {
+        Radical::from_terms(vec![(s, coef)])
     }
     /// `coef * sqrt(s)` for a square-free `s`; `None` when `s` is not square-free or is zero.
-    pub fn basis(s: i64, coef: Rational) -> Option<Radical> {
-        if s == 0 {
+    /// Beyond 64 bits this factors `s` (see [`Radical::sqrt_of`]).
+    pub fn basis(s: impl Into<Radicand>, coef: Rational) -> Option<Radical> {
+        let s = s.into();
+        let magnitude = s.to_bigint().abs();
+        if magnitude.is_zero() {
             return None;
         }
-        let (k, _) = split_square(s.unsigned_abs());
-        if k != 1 {
+        let (k, _) = split_square_big(&magnitude);
+        if !k.is_one() {
             return None;
         }
         Some(Radical::from_terms(vec![(s, coef)]))
@@ -197,25 +439,29 @@ impl Radical {
     pub fn as_rational(&self) -> Option<Rational> {
         match self.terms.as_slice() {
             [] => Some(Rational::zero()),
-            [(1, c)] => Some(c.clone()),
+            [(s, c)] if s.is_one() => Some(c.clone()),
             _ => None,
         }
     }
     /// `(s, c_s)` pairs sorted by `s`, no zero coefficients.
-    pub fn terms(&self) -> &[(i64, Rational)] {
+    pub fn terms(&self) -> &[(Radicand, Rational)] {
         &self.terms
     }
     /// Whether the value is real (no term with negative `s`).
     pub fn is_real(&self) -> bool {
-        self.terms.iter().all(|(s, _)| *s > 0)
+        self.terms.iter().all(|(s, _)| !s.is_negative())
     }
     /// The real part (terms with positive `s`).
     pub fn re(&self) -> Radical {
-        Radical { terms: self.terms.iter().filter(|(s, _)| *s > 0).cloned().collect() }
+        Radical { terms: self.terms.iter().filter(|(s, _)| !s.is_negative()).cloned().collect() }
     }
     /// The imaginary part as a real value: `x = re + i*im`.
     pub fn im(&self) -> Radical {
-        let terms = self.terms.iter().filter(|(s, _)| *s < 0).map(|(s, c)| (-s, c.clone()));
+        let terms = self
+            .terms
+            .iter()
+            .filter(|(s, _)| s.is_negative())
+            .map(|(s, c)| (s.negated(), c.clone()));
         Radical::from_terms(terms.collect())
     }
     /// Multiplies every coefficient by a rational.
@@ -223,13 +469,13 @@ impl Radical {
         if factor.is_zero() {
             return Radical::zero();
         }
-        Radical { terms: self.terms.iter().map(|(s, c)| (*s, c * factor)).collect() }
+        Radical { terms: self.terms.iter().map(|(s, c)| (s.clone(), c * factor)).collect() }
     }
 
     /// Sorts by `s`, merges equal `s` and drops zeros.
-    fn from_terms(mut terms: Vec<(i64, Rational)>) -> Radical {
-        terms.sort_by_key(|(s, _)| *s);
-        let mut res: Vec<(i64, Rational)> = Vec::with_capacity(terms.len());
+    fn from_terms(mut terms: Vec<(Radicand, Rational)>) -> Radical {
+        terms.sort_by(|a, b| a.0.cmp(&b.0));
+        let mut res: Vec<(Radicand, Rational)> = Vec::with_capacity(terms.len());
         for (s, c) in terms {
             match res.last_mut() {
                 Some((last_s, last_c)) if *last_s == s => *last_c += &c,
@@ -250,33 +496,53 @@ impl Radical {
         }
         Radical { terms: res }
     }
-    /// Applies the automorphism that negates `sqrt(prime)` (`prime = -1`: complex conjugation).
-    fn flip(&self, prime: i64) -> Radical {
-        let terms =
-            self.terms.iter().map(|(s, c)| (*s, if flips(prime, *s) { -c } else { c.clone() }));
+    /// Applies the automorphism that negates `sqrt(base)` (`base = -1`: complex conjugation).
+    fn flip(&self, base: &Radicand) -> Radical {
+        let terms = self
+            .terms
+            .iter()
+            .map(|(s, c)| (s.clone(), if flips(base, s) { -c } else { c.clone() }));
         Radical { terms: terms.collect() }
     }
-    /// A prime (or `-1`) that some non-rational term involves.
-    fn some_prime(&self) -> Option<i64> {
-        let (s, _) = self.terms.iter().find(|(s, _)| *s != 1)?;
-        if *s < 0 {
-            return Some(-1);
+    /// A radicand `d` (or `-1`) such that negating `sqrt(d)` is an automorphism of the field the
+    /// value's square roots generate: `-1` when some term is imaginary, otherwise a prime factor
+    /// of a radicand, or, for radicands beyond 64 bits, a divisor `d > 1` of one of them that
+    /// every other radicand either is divisible by or is coprime to (then `d` behaves like a prime
+    /// for these values, because they are square-free).
+    fn some_base(&self) -> Option<Radicand> {
+        let (s, _) = self.terms.iter().find(|(s, _)| !s.is_one())?;
+        if s.is_negative() {
+            return Some(Radicand::MINUS_ONE);
         }
-        Some(i64::try_from(smallest_prime_factor(s.unsigned_abs())).expect("factor of an i64"))
+        if let Some(small) = s.to_i64() {
+            let p = smallest_prime_factor(small.unsigned_abs());
+            return Some(Radicand::from(i64::try_from(p).expect("factor of an i64")));
+        }
+        let mut base = s.clone();
+        'refine: loop {
+            for (t, _) in &self.terms {
+                let g = base.gcd(&t.abs());
+                if !g.is_one() && g != base {
+                    base = g;
+                    continue 'refine;
+                }
+            }
+            return Some(base);
+        }
     }
-    /// Whether some term involves `prime`.
-    fn involves(&self, prime: i64) -> bool {
-        self.terms.iter().any(|(s, _)| flips(prime, *s))
+    /// Whether some term involves `base`.
+    fn involves(&self, base: &Radicand) -> bool {
+        self.terms.iter().any(|(s, _)| flips(base, s))
     }
-    /// Writes `self = a + b*sqrt(prime)` with `a`, `b` free of `prime`.
-    fn split_on(&self, prime: i64) -> (Radical, Radical) {
+    /// Writes `self = a + b*sqrt(base)` with `a`, `b` free of `base`.
+    fn split_on(&self, base: &Radicand) -> (Radical, Radical) {
         let mut a = Vec::new();
         let mut b = Vec::new();
         for (s, c) in &self.terms {
-            if flips(prime, *s) {
-                b.push((s / prime, c.clone()));
+            if flips(base, s) {
+                b.push((s.exact_div(base), c.clone()));
             } else {
-                a.push((*s, c.clone()));
+                a.push((s.clone(), c.clone()));
             }
         }
         (Radical::from_terms(a), Radical::from_terms(b))
@@ -285,9 +551,10 @@ impl Radical {
     fn n_primes(&self) -> u32 {
         let mut rest = self.clone();
         let mut count = 0;
-        while let Some(p) = rest.some_prime() {
+        while let Some(p) = rest.some_base() {
             count += 1;
-            rest = rest.split_on(p).0 + rest.split_on(p).1;
+            let (a, b) = rest.split_on(&p);
+            rest = a + b;
         }
         count
     }
@@ -299,30 +566,34 @@ impl Radical {
         if self.terms.is_empty() {
             return rhs.clone();
         }
-        let res = super::merge_sum(&self.terms, &rhs.terms, i64::cmp, |c, d| c + d);
+        let res = super::merge_sum(&self.terms, &rhs.terms, Radicand::cmp, |c, d| c + d);
         Radical { terms: res }
     }
     fn sub_ref(&self, rhs: &Radical) -> Radical {
         self.add_ref(&rhs.neg_ref())
     }
     fn mul_ref_impl(&self, rhs: &Radical) -> Radical {
-        if let [(1, c)] = rhs.terms.as_slice() {
-            return self.scale(c);
+        if let [(s, c)] = rhs.terms.as_slice() {
+            if s.is_one() {
+                return self.scale(c);
+            }
         }
-        if let [(1, c)] = self.terms.as_slice() {
-            return rhs.scale(c);
+        if let [(s, c)] = self.terms.as_slice() {
+            if s.is_one() {
+                return rhs.scale(c);
+            }
         }
         let mut products = Vec::with_capacity(self.terms.len() * rhs.terms.len());
         for (s, c) in &self.terms {
             for (t, d) in &rhs.terms {
-                let (k, st) = mul_basis(*s, *t);
-                products.push((st, c * d * Rational::from_i64(k)));
+                let (k, st) = mul_basis(s, t);
+                products.push((st, c * d * k));
             }
         }
         Radical::from_terms(products)
     }
     fn neg_ref(&self) -> Radical {
-        Radical { terms: self.terms.iter().map(|(s, c)| (*s, -c)).collect() }
+        Radical { terms: self.terms.iter().map(|(s, c)| (s.clone(), -c)).collect() }
     }
 }
 forward_ops!(Radical);
@@ -332,21 +603,21 @@ impl Field for Radical {
         Radical { terms: Vec::new() }
     }
     fn one() -> Radical {
-        Radical { terms: vec![(1, Rational::one())] }
+        Radical { terms: vec![(Radicand::ONE, Rational::one())] }
     }
     fn is_zero(&self) -> bool {
         self.terms.is_empty()
     }
     fn is_one(&self) -> bool {
-        matches!(self.terms.as_slice(), [(1, c)] if c.is_one())
+        matches!(self.terms.as_slice(), [(s, c)] if s.is_one() && c.is_one())
     }
     /// Multiplies by conjugates: for a prime `p` (or `-1`) in the value, `x * flip_p(x)` no longer
     /// involves `p`, so at most one step per prime reaches a rational.
     fn inv(&self) -> Option<Radical> {
         if let [(s, c)] = self.terms.as_slice() {
             // Since sqrt(s)^2 = s for either sign, 1/(c sqrt(s)) = sqrt(s)/(c s).
-            let inv = (c * Rational::from_i64(*s)).inv()?;
-            return Some(Radical { terms: vec![(*s, inv)] });
+            let inv = (c * Rational::from_bigint(s.to_bigint())).inv()?;
+            return Some(Radical { terms: vec![(s.clone(), inv)] });
         }
         if self.terms.is_empty() {
             return None;
@@ -357,8 +628,8 @@ impl Field for Radical {
             if let Some(r) = current.as_rational() {
                 return Some(numer.scale(&r.inv()?));
             }
-            let prime = current.some_prime().expect("a non-rational value has a radicand");
-            let conjugate = current.flip(prime);
+            let base = current.some_base().expect("a non-rational value has a radicand");
+            let conjugate = current.flip(&base);
             numer = &numer * &conjugate;
             current = &current * &conjugate;
         }
@@ -367,11 +638,11 @@ impl Field for Radical {
         if value.is_zero() {
             Radical::zero()
         } else {
-            Radical { terms: vec![(1, value.clone())] }
+            Radical { terms: vec![(Radicand::ONE, value.clone())] }
         }
     }
     fn conj(&self) -> Radical {
-        self.flip(-1)
+        self.flip(&Radicand::MINUS_ONE)
     }
     fn mul_ref(&self, other: &Radical) -> Radical {
         self.mul_ref_impl(other)
@@ -386,25 +657,27 @@ fn sqrt_depth(x: &Radical, depth: u32) -> Option<Radical> {
     if let Some(r) = x.as_rational() {
         return Some(Radical::sqrt_of(&r));
     }
-    if let [(-1, c)] = x.terms.as_slice() {
-        // c*i = (|c|/2) * (1 ± i)^2, with the sign of c.
-        let half = Radical::sqrt_of(&(c.abs() * Rational::ratio(1, 2).expect("2 is non-zero")));
-        let unit = if c.is_negative() { -Radical::i() } else { Radical::i() };
-        return Some(half * (Radical::one() + unit));
+    if let [(s, c)] = x.terms.as_slice() {
+        if *s == Radicand::MINUS_ONE {
+            // c*i = (|c|/2) * (1 ± i)^2, with the sign of c.
+            let half = Radical::sqrt_of(&(c.abs() * Rational::ratio(1, 2).expect("2 is non-zero")));
+            let unit = if c.is_negative() { -Radical::i() } else { Radical::i() };
+            return Some(half * (Radical::one() + unit));
+        }
     }
     if depth == 0 {
         return None;
     }
-    let prime = x.some_prime()?;
-    let (a, b) = x.split_on(prime);
+    let base = x.some_base()?;
+    let (a, b) = x.split_on(&base);
     // With y = c + d*sqrt(p): y^2 = x exactly when c^2 + p d^2 = a and 2cd = b, so
     // c^2 = (a ± n)/2 with n^2 = a^2 - p b^2, and n must be free of p when y exists.
-    let p = Radical::from_i64(prime);
+    let p = Radical::from_rational(&Rational::from_bigint(base.to_bigint()));
     let n = sqrt_depth(&(&a * &a - &b * &b * &p), depth - 1)?;
-    if n.involves(prime) {
+    if n.involves(&base) {
         return None;
     }
-    let sqrt_p = Radical { terms: vec![(prime, Rational::one())] };
+    let sqrt_p = Radical { terms: vec![(base, Rational::one())] };
     let half = Rational::ratio(1, 2).expect("2 is non-zero");
     for signed in [n.clone(), -n] {
         let c_squared = (&a + &signed).scale(&half);
@@ -438,7 +711,7 @@ impl SquareRoot for Radical {
 /// Used by `Radical`, `Poly` and `RatFunc` so that all of them print the same way.
 pub(crate) fn write_term(
     f: &mut fmt::Formatter<'_>,
-    s: i64,
+    s: &Radicand,
     coef: &Rational,
     factors: &[String],
     first: bool,
@@ -456,14 +729,14 @@ pub(crate) fn write_term(
     };
     let magnitude = coef.abs();
     let mut parts: Vec<String> = Vec::new();
-    if !magnitude.is_one() || (s == 1 && factors.is_empty()) {
+    if !magnitude.is_one() || (s.is_one() && factors.is_empty()) {
         parts.push(magnitude.to_string());
     }
-    if s < 0 {
+    if s.is_negative() {
         parts.push("i".to_string());
     }
-    if s.unsigned_abs() != 1 {
-        parts.push(format!("sqrt({})", s.unsigned_abs()));
+    if !s.is_unit() {
+        parts.push(format!("sqrt({})", s.abs()));
     }
     parts.extend(factors.iter().cloned());
     write!(f, "{sign}{}", parts.join("*"))
@@ -471,9 +744,9 @@ pub(crate) fn write_term(
 
 impl Radical {
     /// The terms in display order: rational part, real radicals, then imaginary ones.
-    pub(crate) fn display_order(&self) -> Vec<&(i64, Rational)> {
-        let mut res: Vec<&(i64, Rational)> = self.terms.iter().collect();
-        res.sort_by_key(|(s, _)| (*s < 0, s.unsigned_abs()));
+    pub(crate) fn display_order(&self) -> Vec<&(Radicand, Rational)> {
+        let mut res: Vec<&(Radicand, Rational)> = self.terms.iter().collect();
+        res.sort_by_key(|(s, _)| (s.is_negative(), s.abs()));
         res
     }
     /// Whether the value prints as one product (no `+`/`-` between terms).
@@ -488,7 +761,7 @@ impl Radical {
         first: bool,
     ) -> fmt::Result {
         for (idx, (s, c)) in self.display_order().into_iter().enumerate() {
-            write_term(f, *s, c, factors, first && idx == 0)?;
+            write_term(f, s, c, factors, first && idx == 0)?;
         }
         Ok(())
     }
@@ -534,6 +807,37 @@ mod tests {
         assert_eq!(split_square(2 * 9 * 25 * 7), (15, 14));
         // A square of a prime above the cube-root bound of the trial division.
         assert_eq!(split_square(1_000_003 * 1_000_003 * 5), (1_000_003, 5));
+    }
+
+    /// Two primes just above 2^32 (checked by trial division when this test was written): their
+    /// product is a square-free radicand of 65 bits.
+    const P: i64 = 4_294_967_311;
+    const Q: i64 = 4_294_967_357;
+
+    fn big(n: &str) -> Radicand {
+        Radicand::from_bigint(n.parse().expect("an integer"))
+    }
+
+    #[test]
+    fn radicands_beyond_64_bits_are_exact() {
+        let pq = root(P) * root(Q);
+        assert_eq!(pq, Radical::from_terms(vec![(big("18446744400127067027"), q(1, 1))]));
+        assert_eq!(pq.to_string(), "sqrt(18446744400127067027)");
+        // sqrt(pq) * sqrt(p) = p sqrt(q), back inside 64 bits.
+        assert_eq!(&pq * &root(P), root(Q).scale(&Rational::from_i64(P)));
+        assert_eq!(&pq * &pq, r(P) * r(Q));
+        assert_eq!(root(-P) * root(-Q), -pq.clone());
+        let x = r(1) + &pq + root(3);
+        assert_eq!(&x * &x.inv().unwrap(), r(1));
+        assert_eq!((&x * &x).sqrt().map(|y| &y * &y), Some(&x * &x));
+        // A square beyond 64 bits under a root comes out.
+        let square = Rational::from_bigint(BigInt::from(P) * BigInt::from(P) * BigInt::from(7));
+        assert_eq!(Radical::sqrt_of(&square), root(7).scale(&Rational::from_i64(P)));
+        assert!(Radical::basis(
+            Radicand::from_bigint(BigInt::from(P) * BigInt::from(P) * BigInt::from(7)),
+            q(1, 1)
+        )
+        .is_none());
     }
 
     #[test]
@@ -605,7 +909,9 @@ mod tests {
     fn small_radical() -> impl Strategy<Value = Radical> {
         let term = (prop::sample::select(vec![1i64, 2, 3, 6, -1, -2]), -3i64..=3, 1i64..=3);
         prop::collection::vec(term, 0..=3).prop_map(|terms| {
-            Radical::from_terms(terms.into_iter().map(|(s, n, d)| (s, q(n, d))).collect())
+            Radical::from_terms(
+                terms.into_iter().map(|(s, n, d)| (Radicand::from(s), q(n, d))).collect(),
+            )
         })
     }
 

@@ -42,6 +42,11 @@ impl RatFunc {
         let common = numer.gcd(&denom);
         Some(RatFunc::normalized(divide(&numer, &common), divide(&denom, &common)))
     }
+    /// `numer / denom` for a caller that knows them coprime (no gcd is taken); the denominator
+    /// is made monic.
+    pub(crate) fn new_coprime(numer: Poly, denom: Poly) -> RatFunc {
+        RatFunc::normalized(numer, denom)
+    }
     /// The constant value when no parameter appears.
     pub fn as_constant(&self) -> Option<Radical> {
         if self.denom.is_one() {

@@ -29,10 +29,16 @@ impl<F: Field> SparseVec<F> {
     pub fn from_pairs(mut pairs: Vec<(usize, F)>) -> Self {
         pairs.sort_by_key(|(idx, _)| *idx);
         let mut entries: Vec<(usize, F)> = Vec::with_capacity(pairs.len());
-        for (idx, value) in pairs {
-            match entries.last_mut() {
-                Some((last, acc)) if *last == idx => *acc += &value,
-                _ => entries.push((idx, value)),
+        let mut pairs = pairs.into_iter().peekable();
+        while let Some((idx, value)) = pairs.next() {
+            if pairs.peek().is_some_and(|(next, _)| *next == idx) {
+                let mut group = vec![value];
+                while let Some((_, v)) = pairs.next_if(|(next, _)| *next == idx) {
+                    group.push(v);
+                }
+                entries.push((idx, F::sum_of(group)));
+            } else {
+                entries.push((idx, value));
             }
         }
         entries.retain(|(_, v)| !v.is_zero());
@@ -119,7 +125,7 @@ impl<F: Field> SparseVec<F> {
     }
     /// The bilinear form `sum_i self_i other_i` (no conjugation).
     pub fn dot(&self, other: &SparseVec<F>) -> F {
-        let mut acc = F::zero();
+        let mut acc = Vec::new();
         let (mut a, mut b) = (0, 0);
         while a < self.entries.len() && b < other.entries.len() {
             let (ia, ib) = (self.entries[a].0, other.entries[b].0);
@@ -128,12 +134,16 @@ impl<F: Field> SparseVec<F> {
             } else if ib < ia {
                 b += 1;
             } else {
-                acc += &self.entries[a].1.mul_ref(&other.entries[b].1);
+                acc.push(self.entries[a].1.mul_ref(&other.entries[b].1));
                 a += 1;
                 b += 1;
             }
         }
-        acc
+        match acc.len() {
+            0 => F::zero(),
+            1 => acc.pop().expect("one value"),
+            _ => F::sum_of(acc),
+        }
     }
     /// Complex conjugate of every entry.
     pub fn conj(&self) -> SparseVec<F> {

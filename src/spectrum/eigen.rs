@@ -105,7 +105,7 @@ pub fn real_sign(value: &Radical) -> i32 {
         let (mut lo, mut hi) = (Rational::zero(), Rational::zero());
         for (s, c) in value.terms() {
             // floor(sqrt(s) * 2^bits) <= sqrt(s) 2^bits < that + 1.
-            let root = (BigInt::from(*s) * &scale * &scale).sqrt();
+            let root = (s.to_bigint() * &scale * &scale).sqrt();
             let low = Rational::new(root.clone(), scale.clone()).expect("scale > 0");
             let high = Rational::new(root + 1, scale.clone()).expect("scale > 0");
             let (a, b) = (c.clone() * &low, c.clone() * &high);

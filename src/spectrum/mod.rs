@@ -54,15 +54,9 @@ impl std::fmt::Display for SpectrumError {
 /// entries connect, each block is split by [`eigen::eigenspaces`], and equal eigenvalues of
 /// different blocks are merged into one level.
 pub fn unperturbed_levels(model: &Model) -> Result<Spectrum, SpectrumError> {
-    crate::exact::take_radicand_overflow();
     let mut res = spectrum_of(model.h0(), &model.param_names())?;
     let positive: Vec<bool> = model.params().iter().map(|p| p.positive).collect();
     sort_with_signs(&mut res.levels, &positive);
-    if crate::exact::take_radicand_overflow() {
-        return Err(SpectrumError::Unsupported(
-            "the eigenvectors of H0 need square roots beyond 64-bit radicands".into(),
-        ));
-    }
     Ok(res)
 }
 

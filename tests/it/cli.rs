@@ -360,3 +360,13 @@ fn issue_12_check_size_counts_complex_doubling() {
     assert_eq!(status, 1, "{stderr}");
     assert!(stderr.contains("a matrix of 1200 rows at 24 values of lambda"), "{stderr}");
 }
+
+/// A square root of a product beyond 64 bits is exact on the command line too (it used to be an
+/// error located at line 1, column 1).
+#[test]
+fn square_root_products_beyond_64_bits_derive() {
+    let model = "space s = spin(1/2)\nH0 = s.z\nV = sqrt(4294967311) * sqrt(4294967357) * s.z\n";
+    let (status, stdout, stderr) = run_cleave(model, &["derive", "model.clv", "--order", "1"]);
+    assert_eq!(status, 0, "stderr:\n{stderr}");
+    assert!(stdout.contains("1/2*sqrt(18446744400127067027)"), "{stdout}");
+}

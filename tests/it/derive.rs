@@ -839,11 +839,11 @@ V = matrix(d, [[0, 1, 0, 2], [1, -1, 0, sqrt(2)], [0, 0, sqrt(2), 1], [2, sqrt(2
 }
 
 /// Without `focus`, every Fock level of a big oscillator is derived. The states of high levels
-/// need square roots of products of many primes (`sqrt(116!/100!)`, say), beyond the 64-bit
-/// radicands cleave holds: those states are left out and said to be, and the energies (which
-/// never need them) are still exact: the ground level's against Bender & Wu (1969), as above.
+/// need square roots of products of many primes (`sqrt(116!/100!)`, say), far beyond 64 bits:
+/// every state is computed exactly, and the energies are too: the ground level's against Bender &
+/// Wu (1969), as above.
 #[test]
-fn states_beyond_64_bit_radicands_are_left_out_not_fatal() {
+fn states_with_radicands_beyond_64_bits_are_exact() {
     let (_, derivation) = check_derive(
         r#"
 space q = oscillator(120)
@@ -859,14 +859,37 @@ V = x^4
         ground.energy,
         values(&derivation, &["1/2", "3/4", "-21/8", "333/16", "-30885/128"])
     );
-    assert!(ground.state.is_some());
-    let left_out = derivation
-        .model_spaces
-        .iter()
-        .flat_map(|s| &s.branches)
-        .filter(|b| b.state_missing == Some(cleave::engine::MissingState::RadicandTooLarge))
-        .count();
-    assert!(left_out > 0);
+    let branches = derivation.model_spaces.iter().flat_map(|s| &s.branches);
+    assert!(branches.clone().all(|b| b.state.is_some() && b.state_missing.is_none()));
+    // Some state coefficient has a square-free radicand beyond 64 bits, held exactly.
+    let big_radicand = branches
+        .filter_map(|b| b.state.as_ref())
+        .flat_map(|s| &s.coefficients)
+        .flat_map(|v| v.entries())
+        .flat_map(|(_, x)| x.numer().terms())
+        .flat_map(|(_, c)| c.terms())
+        .any(|(s, _)| s.to_i64().is_none());
+    assert!(big_radicand);
+}
+
+/// `sqrt(4294967311) * sqrt(4294967357)` is the square root of a 65-bit square-free product of two
+/// primes; through the library it is exactly that, not 1, and it prints and reads back.
+#[test]
+fn product_of_square_roots_beyond_64_bits_is_exact() {
+    let (_, derivation) = check_derive(
+        r#"
+space s = spin(1/2)
+H0 = s.z
+V = sqrt(4294967311) * sqrt(4294967357) * s.z
+"#,
+        1,
+    );
+    let upper = &derivation.model_spaces[1].branches[0].energy;
+    assert_eq!(upper[1], value(&derivation, "1/2*sqrt(18446744400127067027)"));
+    assert_eq!(show(&derivation, upper), "[1/2, 1/2*sqrt(18446744400127067027)]");
+    let product = value(&derivation, "sqrt(4294967311) * sqrt(4294967357)");
+    assert!(!product.is_one());
+    assert_eq!(product.clone() * &product, value(&derivation, "18446744400127067027"));
 }
 
 // ---------------------------------------------------------------------------------------------
