@@ -86,6 +86,17 @@ impl Loaded {
                 (false, Some(span)) => self.located(&Diagnostic::new(why, span)),
                 _ => Failure::unlocated(&self.name, format!("order: {why}"), 2),
             },
+            EngineError::BadQuantity { quantity, term, message } => {
+                let span = self
+                    .source_map
+                    .quantities
+                    .get(quantity)
+                    .and_then(|(whole, terms)| terms.get(term).copied().or(Some(*whole)));
+                self.located(&Diagnostic::new(
+                    message,
+                    span.unwrap_or_else(|| self.source_map.engine_input()),
+                ))
+            }
             EngineError::BadInput(why) => {
                 self.located(&Diagnostic::new(why, self.source_map.engine_input()))
             }
@@ -288,7 +299,11 @@ fn check(
                     samples: b.samples.clone(),
                     slope: b.slope,
                     expected_slope: b.expected_slope,
-                    radius: b.radius,
+                    // The radius where an exceptional point was found, else the bound the
+                    // search reached (the radius is at least that).
+                    radius: b.radius.as_ref().map(|r| match r {
+                        cleave::check::Radius::At(x) | cleave::check::Radius::Beyond(x) => *x,
+                    }),
                     next_order_ratio: b.next_order_ratio,
                     passed: b.passed,
                 })
