@@ -103,7 +103,7 @@ _TOKEN = re.compile(r"\s*(?:(\d+(?:\.\d+)?(?:[eE][-+]?\d+)?)|([A-Za-z_][A-Za-z_0
 
 class _Symbols:
     """The symbols a derivation's values mention: its free parameters (with their ``> 0``
-    assumptions) and its algebraic numbers ``root(P, k)``."""
+    assumptions) and its algebraic numbers ``root_between(P, lo, hi)``."""
 
     def __init__(self, parameters: Sequence[tuple], roots: Sequence[dict]):
         self.parameters = [name for name, _ in parameters]
@@ -113,7 +113,7 @@ class _Symbols:
 
     def sympy(self) -> Dict[str, Any]:
         """Name to sympy object: parameters as real symbols (positive where declared ``> 0``),
-        ``i`` as the imaginary unit, ``sqrt`` and ``root``."""
+        ``i`` as the imaginary unit, ``sqrt``, ``root_between`` (and the older ``root``)."""
         if self._sympy is None:
             import sympy
 
@@ -127,6 +127,15 @@ class _Symbols:
             # root(P, k): the k-th real root of P in ascending order (sympy counts real roots
             # first, in ascending order, from 0).
             names["root"] = lambda p, k: sympy.CRootOf(sympy.Poly(p, x), int(k) - 1)
+
+            # root_between(P, lo, hi): the one real root of P strictly between lo and hi.
+            def root_between(p, lo, hi):
+                for r in sympy.Poly(p, x).real_roots():
+                    if sympy.Rational(lo) < r < sympy.Rational(hi):
+                        return r
+                raise ValueError(f"no real root of {p} between {lo} and {hi}")
+
+            names["root_between"] = root_between
             names["x"] = x
             self._sympy = names
         return self._sympy
@@ -199,7 +208,7 @@ def _real_if_real(value):
 class Value:
     """One exact value of a result: a rational function of the free parameters over the
     rationals, square roots and ``i``, written as cleave writes it (``-21/8*g^2``,
-    ``sqrt(2)*t/3``, ``root(x^3 - 3*x + 1, 2)``)."""
+    ``sqrt(2)*t/3``, ``root_between(x^3 - 3*x + 1, 0, 1)``)."""
 
     __slots__ = ("text", "_symbols", "_fixed", "_function")
 

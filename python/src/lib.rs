@@ -279,13 +279,16 @@ fn check(
                 ));
             }
         }
-        // As on the command line: two orders beyond the one tested predict its error.
+        // As on the command line: open parameters get values that keep the levels apart, the
+        // series is derived numerically beyond the order tested, and a model too large to
+        // diagonalize is refused before deriving.
         let tested = loaded.order(order);
-        let extra = if tested + 2 <= engine::MAX_ORDER { 2 } else { 0 };
-        let derivation = engine::derive(&loaded.model, &DeriveOptions::new(tested + extra))
-            .map_err(|err| loaded.engine_failure(err, order.is_some()))?;
         let options = CheckOptions { at: at.clone(), order: Some(tested) };
-        let verification = verify::verify(&loaded.model, &derivation, &options);
+        if let Some(why) = cleave::check::too_large(&loaded.model, &options) {
+            return Err(Failure::unlocated(&name, why, 1));
+        }
+        let (derivation, verification) = cleave::check::run(&loaded.model, &options)
+            .map_err(|err| loaded.engine_failure(err, order.is_some()))?;
         let doc = CheckJson {
             order: tested,
             at: verification.at.clone(),
