@@ -23,7 +23,7 @@ fn model_text(name: &str) -> String {
 fn derive(c: &mut Criterion) {
     let mut group = c.benchmark_group("derive");
     group.sample_size(10);
-    let cases: [(&str, u32); 14] = [
+    let cases: [(&str, u32); 15] = [
         ("quartic_405", 50),
         ("quartic_405", 100),
         ("rabi", 8),
@@ -38,6 +38,7 @@ fn derive(c: &mut Criterion) {
         ("examples/hubbard_dimer", 20),
         ("examples/spin_one_axial", 20),
         ("hubbard_ring6", 4),
+        ("hubbard_ring8", 2),
     ];
     for (name, order) in cases {
         let text = model_text(name);
