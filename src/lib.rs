@@ -46,3 +46,33 @@ pub fn load(text: &str) -> Result<(model::Model, lower::SourceMap), Diagnostic> 
     let file = syntax::parse(text)?;
     lower::lower(&file)
 }
+
+/// Where a failed derivation points in its model: a [`Diagnostic`] at the focus line or quantity
+/// term it names, at the `order` statement, or at the statement the engine most likely means
+/// ([`lower::SourceMap::engine_input`]). `None` for errors that are not about the text: a
+/// computation that cannot be done, or an order given from outside the model (`order_given`).
+pub fn locate_engine_error(
+    source_map: &lower::SourceMap,
+    err: &engine::EngineError,
+    order_given: bool,
+) -> Option<Diagnostic> {
+    use engine::EngineError;
+    let fallback = source_map.engine_input();
+    let (message, span) = match err {
+        EngineError::Infeasible(_) => return None,
+        EngineError::BadOrder(_) if order_given => return None,
+        EngineError::BadOrder(why) => (why, source_map.order?),
+        EngineError::BadFocus { line, message } => {
+            (message, source_map.focus.get(*line).copied().unwrap_or(fallback))
+        }
+        EngineError::BadQuantity { quantity, term, message } => {
+            let span = source_map
+                .quantities
+                .get(*quantity)
+                .map(|(whole, terms)| terms.get(*term).copied().unwrap_or(*whole));
+            (message, span.unwrap_or(fallback))
+        }
+        EngineError::BadInput(why) => (why, fallback),
+    };
+    Some(Diagnostic::new(message.clone(), span))
+}

@@ -73,33 +73,12 @@ impl Loaded {
     }
     /// An engine error located as the command line locates it.
     fn engine_failure(&self, err: EngineError, order_given: bool) -> Failure {
+        if let Some(diagnostic) = cleave::locate_engine_error(&self.source_map, &err, order_given) {
+            return self.located(&diagnostic);
+        }
         match err {
             EngineError::Infeasible(why) => Failure::unlocated(&self.name, why, 1),
-            EngineError::BadFocus { line, message } => {
-                let span = self.source_map.focus.get(line).copied();
-                self.located(&Diagnostic::new(
-                    message,
-                    span.unwrap_or_else(|| self.source_map.engine_input()),
-                ))
-            }
-            EngineError::BadOrder(why) => match (order_given, self.source_map.order) {
-                (false, Some(span)) => self.located(&Diagnostic::new(why, span)),
-                _ => Failure::unlocated(&self.name, format!("order: {why}"), 2),
-            },
-            EngineError::BadQuantity { quantity, term, message } => {
-                let span = self
-                    .source_map
-                    .quantities
-                    .get(quantity)
-                    .and_then(|(whole, terms)| terms.get(term).copied().or(Some(*whole)));
-                self.located(&Diagnostic::new(
-                    message,
-                    span.unwrap_or_else(|| self.source_map.engine_input()),
-                ))
-            }
-            EngineError::BadInput(why) => {
-                self.located(&Diagnostic::new(why, self.source_map.engine_input()))
-            }
+            other => Failure::unlocated(&self.name, format!("order: {other}"), 2),
         }
     }
     fn order(&self, given: Option<u32>) -> u32 {

@@ -200,33 +200,12 @@ impl Loaded {
     /// focus line it names, the `order` statement or the `--order` flag (`order_flag`), else the
     /// line the engine most likely means (see [`SourceMap::engine_input`]).
     fn engine_failure(&self, err: EngineError, order_flag: bool) -> Failure {
+        if let Some(diagnostic) = crate::locate_engine_error(&self.source_map, &err, order_flag) {
+            return self.located(&diagnostic);
+        }
         match err {
             EngineError::Infeasible(why) => Failure::infeasible(format!("{}: {why}", self.name)),
-            EngineError::BadFocus { line, message } => {
-                let span = self.source_map.focus.get(line).copied();
-                self.located(&Diagnostic::new(
-                    message,
-                    span.unwrap_or_else(|| self.source_map.engine_input()),
-                ))
-            }
-            EngineError::BadOrder(why) => match (order_flag, self.source_map.order) {
-                (false, Some(span)) => self.located(&Diagnostic::new(why, span)),
-                _ => Failure::bad_input(format!("error: --order: {why}")),
-            },
-            EngineError::BadQuantity { quantity, term, message } => {
-                let span = self
-                    .source_map
-                    .quantities
-                    .get(quantity)
-                    .and_then(|(whole, terms)| terms.get(term).copied().or(Some(*whole)));
-                self.located(&Diagnostic::new(
-                    message,
-                    span.unwrap_or_else(|| self.source_map.engine_input()),
-                ))
-            }
-            EngineError::BadInput(why) => {
-                self.located(&Diagnostic::new(why, self.source_map.engine_input()))
-            }
+            other => Failure::bad_input(format!("error: --order: {other}")),
         }
     }
 }

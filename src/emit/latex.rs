@@ -119,37 +119,27 @@ pub(crate) fn latex(
     }
     out.push_str(&introduction(model, derivation, name, plain_options));
     let factoring = text::Names::with_spectrum(names.clone(), &derivation.spectrum);
+    let context = |idx: usize, space| SpaceContext {
+        model,
+        space,
+        number: idx + 1,
+        names,
+        factoring: &factoring,
+        n_params: derivation.parameters.len(),
+        roots: &derivation.roots,
+        order: derivation.order,
+        name,
+        options,
+    };
     for (idx, space) in derivation.model_spaces.iter().enumerate() {
-        let context = SpaceContext {
-            model,
-            space,
-            number: idx + 1,
-            names,
-            factoring: &factoring,
-            n_params: derivation.parameters.len(),
-            roots: &derivation.roots,
-            order: derivation.order,
-            name,
-            options,
-        };
         out.push('\n');
-        model_space(&mut out, &context);
+        model_space(&mut out, &context(idx, space));
     }
+    // Quantities typeset with the first model space's context (its names and factoring, which
+    // every model space shares).
     if let Some(first) = derivation.model_spaces.first() {
         if !derivation.quantities.is_empty() {
-            let context = SpaceContext {
-                model,
-                space: first,
-                number: 1,
-                names,
-                factoring: &factoring,
-                n_params: derivation.parameters.len(),
-                roots: &derivation.roots,
-                order: derivation.order,
-                name,
-                options,
-            };
-            quantities(&mut out, derivation, &context);
+            quantities(&mut out, derivation, &context(0, first));
         }
     }
     if options.standalone {

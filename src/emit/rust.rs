@@ -217,9 +217,24 @@ fn series_function(
         "\n/// {doc}\n///\n/// ```text\n/// {}\n/// ```",
         doc_safe(&text::series(series, names))
     );
+    horner_function(out, fn_name, series, derivation, idents, roots, names);
+}
+
+/// `pub fn fn_name(lambda, params...) -> f64` evaluating the coefficients `series` of
+/// `lambda^k` by Horner's rule; every parameter is an argument (unused ones prefixed `_`), so
+/// the table-driven entry points can pass them all.
+fn horner_function(
+    out: &mut String,
+    fn_name: &str,
+    series: &[RatFunc],
+    derivation: &Derivation,
+    idents: &[Ident],
+    roots: &mut BTreeSet<Radicand>,
+    names: &text::Names,
+) {
     let coefficients: Vec<String> =
         series.iter().map(|c| value_code(c, idents, roots, names).0).collect();
-    let used: BTreeSet<usize> = (0..derivation.parameters.len()).collect();
+    let used = used_params(series.iter());
     let (args, allow) = arguments(&idents[..derivation.parameters.len()], &used);
     if allow {
         out.push_str("#[allow(non_snake_case)]\n");
@@ -400,19 +415,7 @@ fn branch_function(
         );
     }
     caution(out, derivation, name, space);
-    let coefficients: Vec<String> =
-        branch.energy.iter().map(|c| value_code(c, idents, roots, names).0).collect();
-    let used = used_params(branch.energy.iter());
-    let (args, allow) = arguments(&idents[..derivation.parameters.len()], &used);
-    if allow {
-        out.push_str("#[allow(non_snake_case)]\n");
-    }
-    let _ = writeln!(out, "pub fn {fn_name}(lambda: f64{args}) -> f64 {{");
-    let _ = writeln!(out, "    horner(\n        &[");
-    for c in &coefficients {
-        let _ = writeln!(out, "            {c},");
-    }
-    out.push_str("        ],\n        lambda,\n    )\n}\n");
+    horner_function(out, fn_name, &branch.energy, derivation, idents, roots, names);
     (0..derivation.parameters.len()).collect()
 }
 

@@ -273,21 +273,11 @@ impl OperatorExpr {
     /// `self^n`.
     pub fn pow(&self, n: u64) -> OperatorExpr {
         if let Node::Local { space, matrix, .. } = &*self.node {
-            return OperatorExpr::local(*space, matrix_power(matrix, n));
+            let identity = Operator::identity(matrix.n_rows());
+            let power = power_by_squaring(identity, matrix.clone(), n, |a, b| a.mul(b));
+            return OperatorExpr::local(*space, power);
         }
-        let mut acc = OperatorExpr::identity();
-        let mut square = self.clone();
-        let mut n = n;
-        while n > 0 {
-            if n & 1 == 1 {
-                acc = acc.mul(&square);
-            }
-            n >>= 1;
-            if n > 0 {
-                square = square.mul(&square);
-            }
-        }
-        acc
+        power_by_squaring(OperatorExpr::identity(), self.clone(), n, OperatorExpr::mul)
     }
     /// The Hermitian adjoint.
     pub fn adjoint(&self) -> OperatorExpr {
@@ -400,17 +390,17 @@ fn merge(mut pairs: Vec<(Key, RatFunc)>) -> Vec<(Key, RatFunc)> {
     res
 }
 
-/// `A^n` by repeated squaring.
-fn matrix_power(matrix: &Operator, mut n: u64) -> Operator {
-    let mut acc = Operator::identity(matrix.n_rows());
-    let mut square = matrix.clone();
+/// `base^n` by repeated squaring, starting from `identity`.
+fn power_by_squaring<T>(identity: T, base: T, mut n: u64, mul: impl Fn(&T, &T) -> T) -> T {
+    let mut acc = identity;
+    let mut square = base;
     while n > 0 {
         if n & 1 == 1 {
-            acc = acc.mul(&square);
+            acc = mul(&acc, &square);
         }
         n >>= 1;
         if n > 0 {
-            square = square.mul(&square);
+            square = mul(&square, &square);
         }
     }
     acc

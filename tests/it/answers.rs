@@ -4,24 +4,9 @@
 
 use cleave::engine::{derive, Component, Derivation, DeriveOptions, OperatorForm};
 use cleave::exact::{Field, RatFunc};
-use cleave::model::{Model, Target};
+use cleave::model::Target;
 
-fn check_derive(text: &str, order: u32) -> (Model, Derivation) {
-    let (model, _) = match cleave::load(text) {
-        Ok(res) => res,
-        Err(d) => panic!("did not lower:\n{}", d.render(text, "model.clv")),
-    };
-    let derivation = match derive(&model, &DeriveOptions::new(order)) {
-        Ok(res) => res,
-        Err(err) => panic!("did not derive: {err}"),
-    };
-    (model, derivation)
-}
-
-fn value(derivation: &Derivation, text: &str) -> RatFunc {
-    cleave::lower::eval_scalar(text, &derivation.parameters)
-        .unwrap_or_else(|d| panic!("bad expected value {text:?}:\n{}", d.render(text, "x")))
-}
+use crate::derive::{check_derive, value};
 
 fn series(derivation: &Derivation, texts: &[&str]) -> Vec<RatFunc> {
     texts.iter().map(|t| value(derivation, t)).collect()

@@ -10,7 +10,7 @@ use num_bigint::BigInt;
 use num_rational::BigRational;
 
 /// Loads `text` and derives it to `order`; the model comes back for tests that need its matrices.
-fn check_derive(text: &str, order: u32) -> (Model, Derivation) {
+pub(crate) fn check_derive(text: &str, order: u32) -> (Model, Derivation) {
     let (model, _) = match cleave::load(text) {
         Ok(res) => res,
         Err(d) => panic!("did not lower:\n{}", d.render(text, "model.clv")),
@@ -27,7 +27,7 @@ fn values(derivation: &Derivation, texts: &[&str]) -> Vec<RatFunc> {
     texts.iter().map(|t| value(derivation, t)).collect()
 }
 
-fn value(derivation: &Derivation, text: &str) -> RatFunc {
+pub(crate) fn value(derivation: &Derivation, text: &str) -> RatFunc {
     cleave::lower::eval_scalar(text, &derivation.parameters)
         .unwrap_or_else(|d| panic!("bad expected value {text:?}:\n{}", d.render(text, "x")))
 }
